@@ -1,0 +1,17 @@
+import { useStore } from '@nanostores/react';
+import { addLicence, cart } from '~/stores/cart';
+
+type Props = { workId: number; tierId: number; tierName: string };
+
+/** Puts one licence tier for one work in the cart; a licence is bought once per cart. */
+export default function AddLicence({ workId, tierId, tierName }: Props) {
+  const lines = useStore(cart);
+  const inCart = lines.some((l) => l.kind === 'licence' && l.workId === workId && l.tierId === tierId);
+  return inCart ? (
+    <a href="/cart" className="btn-quiet no-underline" data-testid={`licence-in-cart-${tierId}`}>In the cart · view</a>
+  ) : (
+    <button type="button" className="btn-primary" onClick={() => addLicence(workId, tierId)} aria-label={`Add the ${tierName} licence to the cart`} data-testid={`add-licence-${tierId}`}>
+      Add licence
+    </button>
+  );
+}

@@ -1,0 +1,35 @@
+/** Money is an integer count of the currency's minor unit; these helpers format it with Intl. */
+
+export const DEFAULT_LOCALE = 'en-GB';
+
+/** Digits after the decimal point for a currency, as Intl (ISO 4217) has them: 2 for GBP, 0 for JPY. */
+export function minorUnitDigits(currency: string): number {
+  return new Intl.NumberFormat('en', { style: 'currency', currency }).resolvedOptions().maximumFractionDigits ?? 2;
+}
+
+export function assertMinorUnits(amount: number): void {
+  if (!Number.isSafeInteger(amount)) throw new TypeError(`amount must be an integer in minor units, got ${amount}`);
+}
+
+/** Formats minor units, e.g. (12500, 'GBP') → "£125.00"; (500, 'JPY') → "¥500". */
+export function formatMoney(amount: number, currency: string, locale: string = DEFAULT_LOCALE): string {
+  assertMinorUnits(amount);
+  const digits = minorUnitDigits(currency);
+  return new Intl.NumberFormat(locale, { style: 'currency', currency }).format(amount / 10 ** digits);
+}
+
+/** Multiplies minor units by a rate in basis points, rounding half away from zero to a whole minor unit. */
+export function applyBasisPoints(amount: number, basisPoints: number): number {
+  assertMinorUnits(amount);
+  if (!Number.isInteger(basisPoints)) throw new TypeError('basis points must be an integer');
+  const product = amount * basisPoints;
+  // `+ 0` turns a negative zero (e.g. -1 × 1 bp) into 0, which Intl would print as "-£0.00".
+  return Math.sign(product) * Math.round(Math.abs(product) / 10000) + 0;
+}
+
+export function sumMinor(amounts: readonly number[]): number {
+  return amounts.reduce((total, amount) => {
+    assertMinorUnits(amount);
+    return total + amount;
+  }, 0);
+}

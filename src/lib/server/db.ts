@@ -1,0 +1,52 @@
+/** The one Sequelize instance over SQLite (sqlite3 driver), with WAL, foreign keys and a busy timeout. */
+import fs from 'node:fs';
+import path from 'node:path';
+import sqlite3 from 'sqlite3';
+import { Sequelize } from 'sequelize';
+import { config } from './config';
+import { initModels } from './models';
+
+/** How long a connection waits for SQLite's single writer lock before failing with SQLITE_BUSY. */
+export const BUSY_TIMEOUT_MS = 5000;
+
+/**
+ * Sequelize's SQLite dialect opens a fresh connection per transaction and has no connect hook,
+ * so the driver it is given tunes every connection as it opens (sqlite3 queues these until then).
+ */
+class TunedDatabase extends sqlite3.Database {
+  constructor(filename: string, mode?: number, callback?: (err: Error | null) => void) {
+    super(filename, mode ?? sqlite3.OPEN_READWRITE | sqlite3.OPEN_CREATE, callback);
+    this.configure('busyTimeout', BUSY_TIMEOUT_MS);
+    for (const pragma of ['journal_mode = WAL', 'synchronous = NORMAL', 'foreign_keys = ON']) {
+      this.run(`PRAGMA ${pragma}`, (err) => {
+        if (err) console.error(`sqlite: PRAGMA ${pragma} failed`, err);
+      });
+    }
+  }
+}
+const tunedDriver = { ...sqlite3, Database: TunedDatabase };
+
+export function createSequelize(databasePath: string, logSql = false): Sequelize {
+  fs.mkdirSync(path.dirname(databasePath), { recursive: true });
+  const sequelize = new Sequelize({
+    dialect: 'sqlite',
+    dialectModule: tunedDriver,
+    storage: databasePath,
+    logging: logSql ? (sql) => console.log(sql) : false,
+    define: { underscored: true },
+  });
+  initModels(sequelize);
+  return sequelize;
+}
+
+let instance: Sequelize | undefined;
+
+export function db(): Sequelize {
+  instance ??= createSequelize(config().databasePath, config().logSql);
+  return instance;
+}
+
+export async function closeDb(): Promise<void> {
+  if (instance) await instance.close();
+  instance = undefined;
+}

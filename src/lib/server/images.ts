@@ -1,0 +1,240 @@
+/**
+ * The image pipeline (sharp): reads an original, stores it privately, and makes the public derivatives —
+ * watermarked AVIF, WebP and JPEG at fixed sizes, a tiny blurred placeholder and the dominant colour.
+ * Used by the demo seed and by Studio uploads.
+ */
+import crypto from 'node:crypto';
+import fs from 'node:fs';
+import fsp from 'node:fs/promises';
+import path from 'node:path';
+import { createRequire } from 'node:module';
+import sharp from 'sharp';
+import exifReader from 'exif-reader';
+import { parse as parseIcc } from 'icc';
+import type { CaptureData, DerivativeFormat, DerivativeSet, VariantName } from './models/Work';
+
+const require = createRequire(import.meta.url);
+/** Shipped with the app so watermarks never depend on the fonts a machine happens to have. */
+export const WATERMARK_FONT_FILE = require.resolve('@expo-google-fonts/dm-serif-display/400Regular/DMSerifDisplay_400Regular.ttf');
+
+/** Bump when the derivative recipe changes, so new files get new (cache-busting) names. */
+const PIPELINE_VERSION = 1;
+
+export const VARIANTS: readonly { name: VariantName; longEdge: number }[] = [
+  { name: 'sm', longEdge: 480 },
+  { name: 'md', longEdge: 960 },
+  { name: 'lg', longEdge: 1600 },
+  { name: 'xl', longEdge: 2400 },
+];
+export const FORMATS: readonly DerivativeFormat[] = ['avif', 'webp', 'jpeg'];
+export const EXTENSION: Record<DerivativeFormat, string> = { avif: 'avif', webp: 'webp', jpeg: 'jpg' };
+
+/** Default pixel limit for originals (about 100 megapixels); configurable by callers. */
+export const DEFAULT_PIXEL_LIMIT = 100_000_000;
+
+export interface ImageFacts {
+  format: string;
+  /** Pixel size after applying the EXIF orientation. */
+  width: number;
+  height: number;
+  colourProfile: string | null;
+  capture: CaptureData;
+}
+
+function round(value: number, digits: number): number {
+  const f = 10 ** digits;
+  return Math.round(value * f) / f;
+}
+
+/** Capture data from a raw EXIF block (CIPA DC-008 tags), leaving out what is missing or implausible. */
+export function captureFromExif(exif: Buffer | undefined): CaptureData {
+  if (!exif) return {};
+  let parsed: ReturnType<typeof exifReader>;
+  try {
+    parsed = exifReader(exif);
+  } catch {
+    return {};
+  }
+  const image = parsed.Image ?? {};
+  const photo = parsed.Photo ?? {};
+  const capture: CaptureData = {};
+  const text = (v: unknown) => (typeof v === 'string' && v.trim() ? v.replace(/\0+$/, '').trim() : undefined);
+  const positive = (v: unknown) => (typeof v === 'number' && Number.isFinite(v) && v > 0 ? v : undefined);
+  capture.make = text(image.Make);
+  capture.model = text(image.Model);
+  capture.lens = text(photo.LensModel);
+  capture.exposureTime = positive(photo.ExposureTime);
+  capture.fNumber = positive(photo.FNumber) && round(photo.FNumber as number, 1);
+  const iso = photo.ISOSpeedRatings ?? photo.PhotographicSensitivity;
+  capture.iso = positive(Array.isArray(iso) ? iso[0] : iso);
+  capture.focalLength = positive(photo.FocalLength) && round(photo.FocalLength as number, 1);
+  const taken = photo.DateTimeOriginal;
+  // EXIF dates carry no zone; exif-reader reads them as UTC, so the ISO string keeps the wall-clock time.
+  if (taken instanceof Date && !Number.isNaN(taken.getTime())) capture.takenAt = taken.toISOString().slice(0, 19);
+  for (const key of Object.keys(capture) as (keyof CaptureData)[]) if (capture[key] === undefined) delete capture[key];
+  return capture;
+}
+
+/** Reads an image's header: format, oriented size, colour profile and capture data. No full decode. */
+export async function inspectImage(input: string | Buffer, pixelLimit = DEFAULT_PIXEL_LIMIT): Promise<ImageFacts> {
+  const meta = await sharp(input, { limitInputPixels: pixelLimit }).metadata();
+  if (!meta.width || !meta.height || !meta.format) throw new Error('not a readable image');
+  if (meta.width * meta.height > pixelLimit) throw new Error(`image exceeds the pixel limit of ${pixelLimit}`);
+  const turned = (meta.orientation ?? 1) >= 5;
+  let colourProfile: string | null = null;
+  if (meta.icc) {
+    try {
+      colourProfile = parseIcc(meta.icc).description ?? 'embedded profile';
+    } catch {
+      colourProfile = 'unreadable profile';
+    }
+  }
+  return {
+    format: meta.format,
+    width: turned ? meta.height : meta.width,
+    height: turned ? meta.width : meta.height,
+    colourProfile,
+    capture: captureFromExif(meta.exif),
+  };
+}
+
+export async function sha256File(file: string): Promise<string> {
+  const hash = crypto.createHash('sha256');
+  for await (const chunk of fs.createReadStream(file)) hash.update(chunk as Buffer);
+  return hash.digest('hex');
+}
+
+/** Writes `data` next to `target` under a temporary name, then renames it into place. */
+export async function writeFileAtomic(target: string, data: Buffer): Promise<void> {
+  await fsp.mkdir(path.dirname(target), { recursive: true });
+  const temp = `${target}.${crypto.randomBytes(6).toString('hex')}.tmp`;
+  await fsp.writeFile(temp, data);
+  await fsp.rename(temp, target);
+}
+
+/** Stores an original under a random name in `originalsDir` and returns its key (never shown to anyone). */
+export async function storeOriginal(source: string | Buffer, originalsDir: string, extension: string): Promise<string> {
+  const key = `${crypto.randomUUID()}.${extension.replace(/[^a-z0-9]/gi, '').toLowerCase()}`;
+  const target = path.join(originalsDir, key);
+  if (Buffer.isBuffer(source)) await writeFileAtomic(target, source);
+  else {
+    await fsp.mkdir(originalsDir, { recursive: true });
+    const temp = `${target}.tmp`;
+    await fsp.copyFile(source, temp);
+    await fsp.rename(temp, target);
+  }
+  return key;
+}
+
+const watermarkCache = new Map<string, Buffer>();
+
+/** The watermark for an image of `width` px: the shop's text, light and translucent, about half the width. */
+async function watermarkFor(text: string, width: number): Promise<Buffer> {
+  const cacheKey = `${width}\u0000${text}`;
+  const cached = watermarkCache.get(cacheKey);
+  if (cached) return cached;
+  const escaped = text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
+  const rendered = await sharp({
+    text: {
+      text: `<span foreground="#ffffff">${escaped}</span>`,
+      font: 'DM Serif Display',
+      fontfile: WATERMARK_FONT_FILE,
+      width: Math.round(width * 0.56),
+      height: Math.round(width * 0.07),
+      rgba: true,
+      align: 'centre',
+    },
+  })
+    .png()
+    .toBuffer();
+  // Fade the glyphs to a quiet 30 % so the picture still reads through.
+  const faded = await sharp(rendered).ensureAlpha().linear([1, 1, 1, 0.3], [0, 0, 0, 0]).png().toBuffer();
+  watermarkCache.set(cacheKey, faded);
+  return faded;
+}
+
+export interface DerivativeResult {
+  derivatives: DerivativeSet;
+  placeholder: string;
+  dominantColor: string;
+}
+
+function hex(n: number): string {
+  return Math.max(0, Math.min(255, Math.round(n))).toString(16).padStart(2, '0');
+}
+
+/**
+ * Makes every public derivative of an original: oriented, converted to sRGB, watermarked, at each variant
+ * size in AVIF, WebP and JPEG. Files go to a temporary folder renamed into place, so a crash leaves no half set.
+ */
+export async function makeDerivatives(
+  originalPath: string,
+  options: { derivativesDir: string; watermarkText: string; contentHash: string; pixelLimit?: number },
+): Promise<DerivativeResult> {
+  const key = crypto
+    .createHash('sha256')
+    .update(`${options.contentHash}\u0000${options.watermarkText}\u0000${PIPELINE_VERSION}`)
+    .digest('hex')
+    .slice(0, 24);
+  const largest = VARIANTS[VARIANTS.length - 1]!.longEdge;
+  // Decode the original once, into an oriented sRGB working copy no larger than the biggest variant.
+  const { data, info } = await sharp(originalPath, { limitInputPixels: options.pixelLimit ?? DEFAULT_PIXEL_LIMIT })
+    .rotate()
+    .resize(largest, largest, { fit: 'inside', withoutEnlargement: true })
+    .toColourspace('srgb')
+    .removeAlpha()
+    .raw()
+    .toBuffer({ resolveWithObject: true });
+  const raw = { raw: { width: info.width, height: info.height, channels: info.channels } } as const;
+
+  const finalDir = path.join(options.derivativesDir, key);
+  const variants: DerivativeSet['variants'] = [];
+  const tempDir = `${finalDir}.${crypto.randomBytes(6).toString('hex')}.tmp`;
+  await fsp.mkdir(tempDir, { recursive: true });
+  try {
+    for (const variant of VARIANTS) {
+      const resized = await sharp(data, raw)
+        .resize(variant.longEdge, variant.longEdge, { fit: 'inside', withoutEnlargement: true })
+        .raw()
+        .toBuffer({ resolveWithObject: true });
+      const { width, height } = resized.info;
+      const mark = await watermarkFor(options.watermarkText, width);
+      const marked = await sharp(resized.data, { raw: { width, height, channels: resized.info.channels } })
+        .composite([{ input: mark, gravity: 'centre' }])
+        .raw()
+        .toBuffer({ resolveWithObject: true });
+      const source = () =>
+        sharp(marked.data, { raw: { width, height, channels: marked.info.channels } }).removeAlpha().withIccProfile('srgb');
+      await Promise.all([
+        source().avif({ quality: 55, effort: 2 }).toFile(path.join(tempDir, `${variant.name}.avif`)),
+        source().webp({ quality: 78 }).toFile(path.join(tempDir, `${variant.name}.webp`)),
+        source().jpeg({ quality: 82, mozjpeg: true }).toFile(path.join(tempDir, `${variant.name}.jpg`)),
+      ]);
+      variants.push({ name: variant.name, width, height });
+      if (width === info.width && height === info.height) break; // a small original stops at its own size
+    }
+    await fsp.rm(finalDir, { recursive: true, force: true });
+    await fsp.rename(tempDir, finalDir);
+  } catch (error) {
+    await fsp.rm(tempDir, { recursive: true, force: true });
+    throw error;
+  }
+
+  const tiny = await sharp(data, raw).resize(24, 24, { fit: 'inside' }).blur(1.2).webp({ quality: 40 }).toBuffer();
+  const { dominant } = await sharp(data, raw).resize(64, 64, { fit: 'inside' }).stats();
+  return {
+    derivatives: { key, formats: [...FORMATS], variants },
+    placeholder: `data:image/webp;base64,${tiny.toString('base64')}`,
+    dominantColor: `#${hex(dominant.r)}${hex(dominant.g)}${hex(dominant.b)}`,
+  };
+}
+
+/** Path of one derivative file, or null when the request does not name one exactly (no traversal). */
+export function derivativeFilePath(derivativesDir: string, key: string, file: string): string | null {
+  if (!/^[a-f0-9]{24}$/.test(key)) return null;
+  const match = /^(sm|md|lg|xl)\.(avif|webp|jpg)$/.exec(file);
+  if (!match) return null;
+  return path.join(derivativesDir, key, file);
+}
+
+export const CONTENT_TYPE: Record<string, string> = { avif: 'image/avif', webp: 'image/webp', jpg: 'image/jpeg' };

@@ -1,0 +1,114 @@
+/** Prices a cart from the database. The client's idea of a price is never read, only ids and choices. */
+import { Op } from 'sequelize';
+import { db } from './db';
+import { Edition, LicenceTier, Paper, PrintOffer, PrintSize, Work, WorkLicencePrice } from './models';
+import { getShop, pictureOf } from './catalogue';
+import { lineKey, type CartLineInput, type CartQuote, type QuotedLine, type QuotedLineOk } from '../cart';
+import { licencePrice, lineSubtotal, printPrice } from '../pricing';
+import { GRADE_LABEL, gradePrint } from '../print-grade';
+import { mediaUrl, variantAtLeast } from '../media';
+import { sumMinor } from '../money';
+
+function thumbOf(work: Work): QuotedLineOk['thumb'] {
+  const picture = pictureOf(work);
+  const v = variantAtLeast(picture, 240);
+  return { src: mediaUrl(picture.key, v.name, 'jpeg'), width: v.width, height: v.height, alt: work.altText };
+}
+
+function capText(cap: number | null, unit: string | null): string {
+  return cap == null ? 'no cap' : `up to ${cap.toLocaleString('en-GB')} ${unit ?? ''}`.trim();
+}
+
+export async function quoteCart(lines: CartLineInput[]): Promise<CartQuote> {
+  db();
+  const shop = await getShop();
+  const licenceLines = lines.filter((l) => l.kind === 'licence');
+  const printLines = lines.filter((l) => l.kind === 'print');
+
+  const offers = printLines.length
+    ? await PrintOffer.findAll({
+        where: { id: { [Op.in]: printLines.map((l) => l.offerId) } },
+        include: [
+          { model: PrintSize, as: 'size' },
+          { model: Paper, as: 'paper' },
+          { model: Edition, as: 'edition' },
+        ],
+      })
+    : [];
+  const workIds = [...new Set([...licenceLines.map((l) => l.workId), ...offers.map((o) => o.workId)])];
+  const [works, tiers, rules] = await Promise.all([
+    Work.findAll({ where: { id: { [Op.in]: workIds } } }),
+    licenceLines.length ? LicenceTier.findAll({ where: { id: { [Op.in]: licenceLines.map((l) => l.tierId) } } }) : [],
+    licenceLines.length ? WorkLicencePrice.findAll({ where: { workId: { [Op.in]: workIds } } }) : [],
+  ]);
+  const workById = new Map(works.map((w) => [w.id, w]));
+  const tierById = new Map(tiers.map((t) => [t.id, t]));
+  const offerById = new Map(offers.map((o) => [o.id, o]));
+
+  const quoted: QuotedLine[] = lines.map((line): QuotedLine => {
+    const key = lineKey(line);
+    const fail = (error: string): QuotedLine => ({ key, ok: false, kind: line.kind, error });
+    if (line.kind === 'licence') {
+      const work = workById.get(line.workId);
+      if (!work || work.status !== 'published') return fail('This work is not on sale any more.');
+      const tier = tierById.get(line.tierId);
+      if (!tier || !tier.active) return fail('This licence is no longer offered.');
+      const rule = rules.find((r) => r.workId === work.id && r.licenceTierId === tier.id);
+      const price = licencePrice(
+        tier.defaultPrice,
+        rule ? (rule.mode === 'withdrawn' ? { mode: 'withdrawn' } : { mode: 'override', price: rule.price! }) : { mode: 'default' },
+      );
+      if (price == null) return fail(`${tier.name} is not available for “${work.title}”.`);
+      const term = tier.termMonths ? `${tier.termMonths} months` : 'no end date';
+      return {
+        key, ok: true, kind: 'licence', workSlug: work.slug, workTitle: work.title, thumb: thumbOf(work),
+        description: `Licence: ${tier.name}`,
+        detail: `${tier.media}; ${capText(tier.cap, tier.capUnit)}; ${tier.territory}; ${term}`,
+        unitPrice: price, quantity: 1, subtotal: price,
+      };
+    }
+
+    const offer = offerById.get(line.offerId);
+    const work = offer && workById.get(offer.workId);
+    if (!offer || !work || work.status !== 'published') return fail('This print is not on sale any more.');
+    const { size, paper, edition } = offer;
+    if (!offer.active || !size?.active || !paper?.active || !edition) return fail('This print is no longer offered.');
+    const grade = gradePrint({
+      image: { width: work.width, height: work.height },
+      print: { width: size.width, height: size.height, unit: size.unit },
+      mode: line.mode,
+      focal: { x: work.focalX, y: work.focalY },
+      thresholds: shop.thresholds,
+    });
+    if (grade.grade === 'too-small') {
+      return fail(`The file is too small for ${size.label} with ${line.mode === 'fill' ? 'the crop' : 'a border'} (${Math.floor(grade.effectivePpi)} ppi).`);
+    }
+    if (edition.kind === 'limited' && line.quantity > edition.total!) {
+      return fail(`This edition has only ${edition.total} prints.`);
+    }
+    const unitPrice = printPrice({
+      sizeBasePrice: size.basePrice,
+      paperSurchargeBp: paper.surchargeBp,
+      editionPremiumBp: edition.kind === 'limited' ? shop.limitedEditionPremiumBp : 0,
+      override: offer.priceOverride,
+    });
+    const editionText = edition.kind === 'limited' ? `limited edition of ${edition.total}` : 'open edition';
+    return {
+      key, ok: true, kind: 'print', workSlug: work.slug, workTitle: work.title, thumb: thumbOf(work),
+      description: `Print: ${size.label}, ${paper.name}`,
+      detail: `${line.mode === 'fill' ? 'Cropped to fill the paper' : 'Whole picture with a border'}; ${GRADE_LABEL[grade.grade]}, ${Math.floor(grade.effectivePpi)} ppi; ${editionText}`,
+      unitPrice, quantity: line.quantity, subtotal: lineSubtotal({ unitPrice, quantity: line.quantity }),
+    };
+  });
+
+  const ok = quoted.filter((l): l is QuotedLineOk => l.ok);
+  const subtotal = sumMinor(ok.map((l) => l.subtotal));
+  return {
+    currency: shop.currency,
+    lines: quoted,
+    itemCount: ok.reduce((n, l) => n + l.quantity, 0),
+    subtotal,
+    // Shipping and tax are added at checkout, once the buyer's address is known.
+    total: subtotal,
+  };
+}
