@@ -1,5 +1,6 @@
 /** Shared test setup: a temporary data folder with a migrated SQLite database, and small catalogue rows. */
 import fs from 'node:fs';
+import type { InferCreationAttributes } from 'sequelize';
 import os from 'node:os';
 import path from 'node:path';
 import { resetConfigForTests } from '~/lib/server/config';
@@ -34,7 +35,7 @@ export const FAKE_DERIVATIVES = (width: number, height: number) => ({
   variants: [{ name: 'sm' as const, width: Math.min(480, width), height: Math.round((Math.min(480, width) * height) / width) }],
 });
 
-export async function insertSettings(overrides: Partial<ShopSettings['_creationAttributes']> = {}) {
+export async function insertSettings(overrides: Partial<InferCreationAttributes<ShopSettings>> = {}) {
   return ShopSettings.create({
     id: 1, shopName: 'Test shop', photographerName: 'Test Photographer', tagline: '', currency: 'GBP',
     targetPpi: 300, floorPpi: 240, wallFloorPpi: 150, viewingDistanceFactor: 1.5, watermarkText: 'test',
@@ -42,7 +43,7 @@ export async function insertSettings(overrides: Partial<ShopSettings['_creationA
   });
 }
 
-export async function insertWork(slug: string, width: number, height: number, extra: Partial<Work['_creationAttributes']> = {}) {
+export async function insertWork(slug: string, width: number, height: number, extra: Partial<InferCreationAttributes<Work>> = {}) {
   return Work.create({
     slug, title: slug, caption: '', altText: `alt ${slug}`, keywords: [], width, height,
     orientation: orientationOf(width, height), capture: {}, status: 'published', publishedAt: new Date(),

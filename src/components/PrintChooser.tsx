@@ -1,4 +1,4 @@
-import { useId, useMemo, useState } from 'react';
+import { useEffect, useId, useMemo, useState } from 'react';
 import { addPrint } from '~/stores/cart';
 import { formatMoney } from '~/lib/money';
 import { mediaUrl, variantAtLeast, type PictureData } from '~/lib/media';
@@ -39,6 +39,9 @@ export default function PrintChooser({ picture, focal, sizes, papers, currency, 
   const [sizeId, setSizeId] = useState<number | null>(firstAvailable?.size.sizeId ?? null);
   const [paperId, setPaperId] = useState<number | null>(papers[0]?.paperId ?? null);
   const [added, setAdded] = useState<string | null>(null);
+  // The server-rendered copy cannot add anything; the button wakes once the island has hydrated.
+  const [hydrated, setHydrated] = useState(false);
+  useEffect(() => setHydrated(true), []);
 
   const current = graded.find((g) => g.size.sizeId === sizeId) ?? null;
   const result = current ? current[mode] : null;
@@ -150,7 +153,7 @@ export default function PrintChooser({ picture, focal, sizes, papers, currency, 
 
       <div className="flex flex-wrap items-center gap-4">
         <span className="price" data-testid="print-price">{offer && canBuy ? formatMoney(offer.price, currency) : '—'}</span>
-        <button type="button" className="btn-primary" disabled={!canBuy} onClick={add} data-testid="add-print">
+        <button type="button" className="btn-primary" disabled={!canBuy || !hydrated} onClick={add} data-testid="add-print" data-ready={hydrated ? 'true' : undefined}>
           Add print to cart
         </button>
       </div>

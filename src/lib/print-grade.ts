@@ -94,10 +94,15 @@ export function viewingDistance(widthInches: number, heightInches: number, facto
   return factor * Math.hypot(widthInches, heightInches);
 }
 
+/**
+ * Grades on whole ppi, the figure the buyer is shown: a file made for A4 at 300 ppi (2480 px across
+ * 210 mm, ISO 216 rounding) prints at 299.96 ppi and is Crisp, as its maker intended.
+ */
 export function gradeFor(effectivePpi: number, eyePpi: number, t: GradeThresholds = DEFAULT_THRESHOLDS): Grade {
-  if (effectivePpi + EPSILON >= t.targetPpi) return 'crisp';
-  if (effectivePpi + EPSILON >= t.floorPpi) return 'fine';
-  if (effectivePpi + EPSILON >= Math.max(eyePpi, t.wallFloorPpi)) return 'wall';
+  const ppi = Math.round(effectivePpi + EPSILON);
+  if (ppi >= t.targetPpi) return 'crisp';
+  if (ppi >= t.floorPpi) return 'fine';
+  if (ppi >= Math.max(Math.round(eyePpi), t.wallFloorPpi)) return 'wall';
   return 'too-small';
 }
 

@@ -236,6 +236,7 @@ describe('gradePrint — ISO paper in millimetres', () => {
     const r = grade({ image: { width: 3508, height: 2480 }, print: { width: 210, height: 297, unit: 'mm' } });
     expect(r.effectivePpi).toBeCloseTo(300, 0); // within the ±0.5 px rounding of the published table
     expect(r.lostShare).toBeLessThan(0.001); // same shape, practically nothing cropped
+    expect(r.grade).toBe('crisp'); // made for A4 at 300 ppi, so Crisp (graded on whole ppi)
   });
 });
 
@@ -296,18 +297,20 @@ describe('gradePrint — viewing distance and eye ppi', () => {
 });
 
 describe('gradeFor — grade boundaries (business rule, PRODUCT.md print grade)', () => {
-  it('exactly 300 is Crisp, 299.9 is Fine', () => {
+  // business rule (PRODUCT.md print grade, graded on the whole ppi the buyer is shown)
+  it('300 is Crisp, 299.5 rounds to 300, 299.4 is Fine', () => {
     expect(gradeFor(300, 100)).toBe('crisp'); // business rule (PRODUCT.md): Crisp ≥ target 300
-    expect(gradeFor(299.9, 100)).toBe('fine'); // business rule (PRODUCT.md): below target, ≥ floor 240
+    expect(gradeFor(299.5, 100)).toBe('crisp'); // shown as 300 ppi, so graded as 300
+    expect(gradeFor(299.4, 100)).toBe('fine'); // business rule (PRODUCT.md): below target, ≥ floor 240
   });
-  it('exactly 240 is Fine, just below is not', () => {
+  it('240 is Fine, 239.4 is not', () => {
     expect(gradeFor(240, 100)).toBe('fine'); // business rule (PRODUCT.md): Fine ≥ floor 240
-    expect(gradeFor(239.9, 100)).toBe('wall'); // business rule (PRODUCT.md): ≥ eye 100 and ≥ wall floor 150
+    expect(gradeFor(239.4, 100)).toBe('wall'); // business rule (PRODUCT.md): ≥ eye 100 and ≥ wall floor 150
   });
   it('Wall needs both the eye ppi and the wall floor', () => {
     expect(gradeFor(200, 180)).toBe('wall'); // business rule (PRODUCT.md): 200 ≥ 180 and ≥ 150
     expect(gradeFor(200, 201)).toBe('too-small'); // business rule (PRODUCT.md): below the eye's ppi
-    expect(gradeFor(149.9, 100)).toBe('too-small'); // business rule (PRODUCT.md): below the wall floor 150
+    expect(gradeFor(149.4, 100)).toBe('too-small'); // business rule (PRODUCT.md): below the wall floor 150
     expect(gradeFor(150, 100)).toBe('wall'); // business rule (PRODUCT.md): exactly the wall floor
     expect(gradeFor(150, 150)).toBe('wall'); // business rule (PRODUCT.md): exactly both
   });

@@ -81,7 +81,7 @@ export async function quoteCart(lines: CartLineInput[]): Promise<CartQuote> {
       thresholds: shop.thresholds,
     });
     if (grade.grade === 'too-small') {
-      return fail(`The file is too small for ${size.label} with ${line.mode === 'fill' ? 'the crop' : 'a border'} (${Math.floor(grade.effectivePpi)} ppi).`);
+      return fail(`The file is too small for ${size.label} with ${line.mode === 'fill' ? 'the crop' : 'a border'} (${Math.round(grade.effectivePpi)} ppi).`);
     }
     if (edition.kind === 'limited' && line.quantity > edition.total!) {
       return fail(`This edition has only ${edition.total} prints.`);
@@ -96,7 +96,7 @@ export async function quoteCart(lines: CartLineInput[]): Promise<CartQuote> {
     return {
       key, ok: true, kind: 'print', workSlug: work.slug, workTitle: work.title, thumb: thumbOf(work),
       description: `Print: ${size.label}, ${paper.name}`,
-      detail: `${line.mode === 'fill' ? 'Cropped to fill the paper' : 'Whole picture with a border'}; ${GRADE_LABEL[grade.grade]}, ${Math.floor(grade.effectivePpi)} ppi; ${editionText}`,
+      detail: `${line.mode === 'fill' ? 'Cropped to fill the paper' : 'Whole picture with a border'}; ${GRADE_LABEL[grade.grade]}, ${Math.round(grade.effectivePpi)} ppi; ${editionText}`,
       unitPrice, quantity: line.quantity, subtotal: lineSubtotal({ unitPrice, quantity: line.quantity }),
     };
   });

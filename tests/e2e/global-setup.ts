@@ -1,0 +1,59 @@
+/**
+ * Browser tests run against the built app (`astro build` first) with the demo shop seeded into a
+ * temporary data folder, exactly as `npm start` serves it.
+ */
+import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
+import fs from 'node:fs';
+import net from 'node:net';
+import os from 'node:os';
+import path from 'node:path';
+import type { TestProject } from 'vitest/node';
+
+declare module 'vitest' {
+  export interface ProvidedContext { baseUrl: string; dataDir: string }
+}
+
+function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const server = net.createServer();
+    server.listen(0, '127.0.0.1', () => {
+      const { port } = server.address() as net.AddressInfo;
+      server.close(() => resolve(port));
+    });
+    server.on('error', reject);
+  });
+}
+
+async function waitFor(url: string, timeoutMs: number): Promise<void> {
+  const deadline = Date.now() + timeoutMs;
+  while (Date.now() < deadline) {
+    try {
+      const res = await fetch(url);
+      if (res.ok) return;
+    } catch {
+      // not listening yet
+    }
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`server did not answer at ${url}`);
+}
+
+let server: ChildProcess | undefined;
+
+export default async function setup(project: TestProject) {
+  if (!fs.existsSync('dist/server/entry.mjs')) throw new Error('Build the app first: npm run build');
+  const dataDir = process.env.E2E_DATA_DIR ?? fs.mkdtempSync(path.join(os.tmpdir(), 'stillmark-e2e-'));
+  const env = { ...process.env, STILLMARK_DATA_DIR: dataDir, ASTRO_TELEMETRY_DISABLED: '1' };
+  const seeded = spawnSync(process.execPath, ['--import', 'tsx', 'scripts/seed.ts'], { env, stdio: 'inherit' });
+  if (seeded.status !== 0) throw new Error('seeding the demo shop failed');
+  const port = await freePort();
+  server = spawn(process.execPath, ['dist/server/entry.mjs'], { env: { ...env, HOST: '127.0.0.1', PORT: String(port) }, stdio: ['ignore', 'inherit', 'inherit'] });
+  const baseUrl = `http://127.0.0.1:${port}`;
+  await waitFor(`${baseUrl}/`, 30_000);
+  project.provide('baseUrl', baseUrl);
+  project.provide('dataDir', dataDir);
+  return async () => {
+    server?.kill('SIGTERM');
+    if (!process.env.E2E_DATA_DIR) fs.rmSync(dataDir, { recursive: true, force: true });
+  };
+}
