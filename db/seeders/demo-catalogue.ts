@@ -101,7 +101,7 @@ export const DEMO_WORKS: DemoWork[] = [
   { slug: 'carafe-amber-hour', title: 'Carafe, Amber Hour', series: 'glass-and-water', width: 6000, height: 4000,
     caption: 'A hand-blown carafe and a small tumbler of amber tea, glowing against a warm backdrop.',
     altText: 'A round glass carafe half full of amber liquid beside a small tumbler, on a glossy dark table with an amber glow behind and reflections below.',
-    keywords: ['glass', 'carafe', 'water', 'amber', 'reflection', 'black background'], capture: shot('2026-02-11T10:14:22'), notes: flashNote,
+    keywords: ['glass', 'carafe', 'tea', 'amber', 'reflection', 'warm light'], capture: shot('2026-02-11T10:14:22'), notes: flashNote,
     overrides: { 'commercial-campaign': 160000 } },
   { slug: 'two-tumblers', title: 'Two Tumblers', series: 'glass-and-water', width: 4000, height: 6000,
     caption: 'Two heavy tumblers, one empty and one with a finger of water, leaning light into each other.',

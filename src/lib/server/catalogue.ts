@@ -8,7 +8,23 @@ import type { LicenceOption, SeriesSummary, SizeOption, WorkCard, WorkDetail } f
 import type { Orientation } from '../catalogue-types';
 
 export type * from '../catalogue-types';
-import { licencePrice, printPrice } from '../pricing';
+import { licencePrice, printPrice, type LicencePriceRule } from '../pricing';
+
+/** A work's stored licence rule (or none) as the pricing module's rule. */
+export function licenceRuleOf(row: WorkLicencePrice | undefined): LicencePriceRule {
+  if (!row) return { mode: 'default' };
+  return row.mode === 'withdrawn' ? { mode: 'withdrawn' } : { mode: 'override', price: row.price! };
+}
+
+/** The price of one print offer from its size, paper and edition, unless the offer has its own. */
+export function offerPrice(offer: PrintOffer, size: PrintSize, paper: Paper, edition: Edition, limitedEditionPremiumBp: number): number {
+  return printPrice({
+    sizeBasePrice: size.basePrice,
+    paperSurchargeBp: paper.surchargeBp,
+    editionPremiumBp: edition.kind === 'limited' ? limitedEditionPremiumBp : 0,
+    override: offer.priceOverride,
+  });
+}
 
 export interface ShopInfo {
   shopName: string;
@@ -177,11 +193,7 @@ export async function getPublishedWork(slug: string): Promise<WorkDetail | null>
   const editions = new Map((work.editions ?? []).map((e) => [e.printSizeId, e]));
 
   const licences: LicenceOption[] = tiers.map((t) => {
-    const rule = rules.get(t.id);
-    const price = licencePrice(
-      t.defaultPrice,
-      rule ? (rule.mode === 'withdrawn' ? { mode: 'withdrawn' } : { mode: 'override', price: rule.price! }) : { mode: 'default' },
-    );
+    const price = licencePrice(t.defaultPrice, licenceRuleOf(rules.get(t.id)));
     return {
       tierId: t.id, slug: t.slug, name: t.name, use: t.use, summary: t.summary, terms: t.terms, media: t.media,
       cap: t.cap, capUnit: t.capUnit, territory: t.territory, termMonths: t.termMonths, price,
@@ -195,12 +207,7 @@ export async function getPublishedWork(slug: string): Promise<WorkDetail | null>
       .map((o) => ({
         offerId: o.id,
         paperId: o.paperId,
-        price: printPrice({
-          sizeBasePrice: size.basePrice,
-          paperSurchargeBp: paperById.get(o.paperId)!.surchargeBp,
-          editionPremiumBp: edition!.kind === 'limited' ? shop.limitedEditionPremiumBp : 0,
-          override: o.priceOverride,
-        }),
+        price: offerPrice(o, size, paperById.get(o.paperId)!, edition!, shop.limitedEditionPremiumBp),
       }))
       .sort((a, b) => a.price - b.price);
     return {

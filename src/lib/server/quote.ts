@@ -2,9 +2,9 @@
 import { Op } from 'sequelize';
 import { db } from './db';
 import { Edition, LicenceTier, Paper, PrintOffer, PrintSize, Work, WorkLicencePrice } from './models';
-import { getShop, pictureOf } from './catalogue';
+import { getShop, licenceRuleOf, offerPrice, pictureOf } from './catalogue';
 import { lineKey, type CartLineInput, type CartQuote, type QuotedLine, type QuotedLineOk } from '../cart';
-import { licencePrice, lineSubtotal, printPrice } from '../pricing';
+import { licencePrice, lineSubtotal } from '../pricing';
 import { GRADE_LABEL, gradePrint } from '../print-grade';
 import { mediaUrl, variantAtLeast } from '../media';
 import { sumMinor } from '../money';
@@ -54,10 +54,7 @@ export async function quoteCart(lines: CartLineInput[]): Promise<CartQuote> {
       const tier = tierById.get(line.tierId);
       if (!tier || !tier.active) return fail('This licence is no longer offered.');
       const rule = rules.find((r) => r.workId === work.id && r.licenceTierId === tier.id);
-      const price = licencePrice(
-        tier.defaultPrice,
-        rule ? (rule.mode === 'withdrawn' ? { mode: 'withdrawn' } : { mode: 'override', price: rule.price! }) : { mode: 'default' },
-      );
+      const price = licencePrice(tier.defaultPrice, licenceRuleOf(rule));
       if (price == null) return fail(`${tier.name} is not available for “${work.title}”.`);
       const term = tier.termMonths ? `${tier.termMonths} months` : 'no end date';
       return {
@@ -86,12 +83,7 @@ export async function quoteCart(lines: CartLineInput[]): Promise<CartQuote> {
     if (edition.kind === 'limited' && line.quantity > edition.total!) {
       return fail(`This edition has only ${edition.total} prints.`);
     }
-    const unitPrice = printPrice({
-      sizeBasePrice: size.basePrice,
-      paperSurchargeBp: paper.surchargeBp,
-      editionPremiumBp: edition.kind === 'limited' ? shop.limitedEditionPremiumBp : 0,
-      override: offer.priceOverride,
-    });
+    const unitPrice = offerPrice(offer, size, paper, edition, shop.limitedEditionPremiumBp);
     const editionText = edition.kind === 'limited' ? `limited edition of ${edition.total}` : 'open edition';
     return {
       key, ok: true, kind: 'print', workSlug: work.slug, workTitle: work.title, thumb: thumbOf(work),
