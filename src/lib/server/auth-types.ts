@@ -1,0 +1,14 @@
+import type { Role } from '../roles';
+
+export interface SessionUser {
+  id: string;
+  email: string;
+  name: string;
+  role: Role;
+  emailVerified: boolean;
+}
+
+export interface SessionInfo {
+  id: string;
+  expiresAt: Date;
+}
