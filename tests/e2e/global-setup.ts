@@ -1,16 +1,18 @@
 /**
  * Browser tests run against the built app (`astro build` first) with the demo shop seeded into a
- * temporary data folder, exactly as `npm start` serves it.
+ * temporary data folder, exactly as `npm start` serves it, and its mail caught by the local catcher.
  */
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
 import fs from 'node:fs';
 import net from 'node:net';
 import os from 'node:os';
 import path from 'node:path';
 import type { TestProject } from 'vitest/node';
+import { startMailCatcher, type MailCatcher } from '../../src/fakes/mail/catcher';
 
 declare module 'vitest' {
-  export interface ProvidedContext { baseUrl: string; dataDir: string }
+  export interface ProvidedContext { baseUrl: string; dataDir: string; mailCatcherUrl: string }
 }
 
 function freePort(): Promise<number> {
@@ -39,21 +41,43 @@ async function waitFor(url: string, timeoutMs: number): Promise<void> {
 }
 
 let server: ChildProcess | undefined;
+let catcher: MailCatcher | undefined;
 
 export default async function setup(project: TestProject) {
   if (!fs.existsSync('dist/server/entry.mjs')) throw new Error('Build the app first: npm run build');
   const dataDir = process.env.E2E_DATA_DIR ?? fs.mkdtempSync(path.join(os.tmpdir(), 'stillmark-e2e-'));
-  const env = { ...process.env, STILLMARK_DATA_DIR: dataDir, ASTRO_TELEMETRY_DISABLED: '1' };
+  const port = await freePort();
+  const baseUrl = `http://127.0.0.1:${port}`;
+  const env = {
+    ...process.env,
+    STILLMARK_DATA_DIR: dataDir,
+    ASTRO_TELEMETRY_DISABLED: '1',
+    PUBLIC_ORIGIN: baseUrl,
+    AUTH_SECRET: randomBytes(32).toString('hex'),
+  };
   const seeded = spawnSync(process.execPath, ['--import', 'tsx', 'scripts/seed.ts'], { env, stdio: 'inherit' });
   if (seeded.status !== 0) throw new Error('seeding the demo shop failed');
-  const port = await freePort();
-  server = spawn(process.execPath, ['dist/server/entry.mjs'], { env: { ...env, HOST: '127.0.0.1', PORT: String(port) }, stdio: ['ignore', 'inherit', 'inherit'] });
-  const baseUrl = `http://127.0.0.1:${port}`;
-  await waitFor(`${baseUrl}/`, 30_000);
+  const mailDir = fs.mkdtempSync(path.join(os.tmpdir(), 'stillmark-e2e-mail-'));
+  catcher = await startMailCatcher({ smtpPort: 0, httpPort: 0, storeFile: path.join(mailDir, 'mail-catcher.jsonl') });
+  const mailCatcherUrl = `http://127.0.0.1:${catcher.httpPort}`;
+  server = spawn(process.execPath, ['dist/server/entry.mjs'], {
+    env: { ...env, HOST: '127.0.0.1', PORT: String(port), SMTP_URL: `smtp://127.0.0.1:${catcher.smtpPort}`, MAIL_CATCHER_URL: mailCatcherUrl },
+    stdio: ['ignore', 'inherit', 'inherit'],
+  });
+  try {
+    await waitFor(`${baseUrl}/`, 30_000);
+  } catch (error) {
+    server.kill('SIGTERM');
+    await catcher.close();
+    throw error;
+  }
   project.provide('baseUrl', baseUrl);
   project.provide('dataDir', dataDir);
+  project.provide('mailCatcherUrl', mailCatcherUrl);
   return async () => {
     server?.kill('SIGTERM');
+    await catcher?.close();
+    fs.rmSync(mailDir, { recursive: true, force: true });
     if (!process.env.E2E_DATA_DIR) fs.rmSync(dataDir, { recursive: true, force: true });
   };
 }
