@@ -68,7 +68,7 @@ export const DEMO_SIZES = [
 export const DEMO_EDITIONS: Record<string, { total: number; artistProofs: number }> = {
   '16x20': { total: 25, artistProofs: 2 },
   '20x30': { total: 10, artistProofs: 1 },
-  '24x36': { total: 5, artistProofs: 1 },
+  '24x36': { total: 5, artistProofs: 0 }, // proofs ≤ 10 % of N (common practice): none for five
 };
 
 export const DEMO_PAPERS = [

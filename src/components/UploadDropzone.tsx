@@ -18,6 +18,10 @@ interface Item {
   message?: string;
 }
 
+/** A thin ember bar on a rule-coloured track, the same in every engine. */
+const BAR =
+  'block h-1.5 w-full appearance-none overflow-hidden rounded-full bg-rule [&::-webkit-progress-bar]:bg-rule [&::-webkit-progress-value]:bg-ember [&::-moz-progress-bar]:bg-ember';
+
 /** Two files travel at once: enough to keep the line busy while the server makes the previous one's previews. */
 const AT_ONCE = 2;
 
@@ -171,21 +175,22 @@ function UploadRow({ item }: { item: Item }) {
         <p className="text-xs text-ink-soft">{formatBytes(file.size)}</p>
       </div>
       <div className="text-sm">
-        {(phase === 'waiting' || phase === 'sending') && (
+        {phase === 'waiting' && <p className="text-xs text-ink-soft">Waiting to send…</p>}
+        {phase === 'sending' && (
           <>
             <progress
-              className="block h-1.5 w-full accent-ember"
+              className={BAR}
               max={file.size}
               value={item.sent}
               aria-label={`Sending ${file.name}`}
-              aria-valuetext={`${percent} %`}
+              aria-valuetext={`${percent} % sent`}
             />
-            <p className="mt-1 text-xs text-ink-soft">{phase === 'waiting' ? 'Waiting…' : `Sending · ${percent} %`}</p>
+            <p className="mt-1 text-xs text-ink-soft" aria-hidden="true">Sending · {percent} %</p>
           </>
         )}
         {phase === 'processing' && (
           <>
-            <progress className="block h-1.5 w-full accent-ember" aria-label={`Processing ${file.name}`} />
+            <progress className={`${BAR} animate-pulse`} aria-label={`Processing ${file.name}`} />
             <p className="mt-1 text-xs text-ink-soft" role="status">Processing…</p>
           </>
         )}

@@ -72,7 +72,8 @@ export function titleFromFileName(fileName: string): string {
   let name = fileName.normalize('NFC').replace(WHITESPACE_CONTROL, ' ').replace(CONTROL, '');
   name = name.split(/[/\\]/).pop() ?? '';
   name = name.replace(/\.[A-Za-z][A-Za-z0-9]{0,4}$/, ''); // "photo.jpeg", not "Version 2.1"
-  name = name.replace(/\s+/g, ' ').trim();
+  // Cameras and file systems join words with hyphens and underscores; a title reads with spaces.
+  name = name.replace(/[_-]+/g, ' ').replace(/\s+/g, ' ').trim();
   // Names such as "..": nothing but dots says nothing.
   if (/^\.*$/.test(name)) return UNTITLED;
   const chars = Array.from(name); // code points, so a cut never splits a surrogate pair

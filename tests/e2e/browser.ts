@@ -19,3 +19,8 @@ export function screenshotPath(name: string): string {
   fs.mkdirSync(SCREENSHOT_DIR, { recursive: true });
   return path.join(SCREENSHOT_DIR, `${name}.png`);
 }
+
+/** Waits until every island on the page that hydrates on load has hydrated (Astro drops the `ssr` attribute then). */
+export async function islandsReady(page: import('playwright-core').Page): Promise<void> {
+  await page.waitForFunction(() => !document.querySelector('astro-island[ssr][client="load"]'));
+}

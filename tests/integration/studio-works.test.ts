@@ -374,7 +374,7 @@ describe('licence prices and property releases', () => {
     const w = await insertWork('odd-release', 6000, 4000, { propertyRelease: 'unknown' });
     const editor = await editorOf(w.id);
     expect(editor.details.propertyRelease).toBe('PR-NON');
-    expect(editor.licences.find((l) => l.tierId === ids.commercial)).toMatchObject({ locked: true });
+    expect(editor.licences.find((l) => l.tierId === ids.commercial)).toMatchObject({ mode: 'withdrawn', locked: true });
   });
 
   it('rejects a release code outside the PLUS vocabulary', async () => {

@@ -73,6 +73,11 @@ describe('titleFromFileName', () => {
     expect(titleFromFileName(decodeURIComponent('photo.php%00.jpg'))).toBe('photo.php');
   });
 
+  it('reads hyphens and underscores as spaces', () => {
+    expect(titleFromFileName('north-window_study.jpg')).toBe('north window study');
+    expect(titleFromFileName('IMG_0042.JPG')).toBe('IMG 0042');
+  });
+
   it('strips one extension, but not a number that looks like one', () => {
     expect(titleFromFileName('Quince.JPEG')).toBe('Quince');
     expect(titleFromFileName('archive.tar.gz')).toBe('archive.tar');

@@ -2,7 +2,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import sqlite3 from 'sqlite3';
-import { Sequelize } from 'sequelize';
+import { Sequelize, Transaction } from 'sequelize';
 import { config } from './config';
 import { initModels } from './models';
 
@@ -33,6 +33,9 @@ export function createSequelize(databasePath: string, logSql = false): Sequelize
     dialectModule: tunedDriver,
     storage: databasePath,
     logging: logSql ? (sql) => console.log(sql) : false,
+    // Take the write lock when a transaction begins: a deferred one that reads first and writes later
+    // fails with SQLITE_BUSY at once when another writer got in between; IMMEDIATE waits its turn.
+    transactionType: Transaction.TYPES.IMMEDIATE,
     define: { underscored: true },
   });
   initModels(sequelize);

@@ -213,8 +213,15 @@ export async function makeDerivatives(
       variants.push({ name: variant.name, width, height });
       if (width === info.width && height === info.height) break; // a small original stops at its own size
     }
-    await fsp.rm(finalDir, { recursive: true, force: true });
-    await fsp.rename(tempDir, finalDir);
+    // The folder's name is a hash of everything that went into it, so a folder already there (another
+    // process got there first) holds the same files: keep it and drop ours.
+    try {
+      await fsp.rename(tempDir, finalDir);
+    } catch (error) {
+      const code = (error as NodeJS.ErrnoException).code;
+      if (code !== 'ENOTEMPTY' && code !== 'EEXIST') throw error;
+      await fsp.rm(tempDir, { recursive: true, force: true });
+    }
   } catch (error) {
     await fsp.rm(tempDir, { recursive: true, force: true });
     throw error;

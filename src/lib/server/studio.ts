@@ -169,11 +169,13 @@ export async function getWorkEditor(id: number): Promise<StudioWorkEditor | null
 
   const licences: StudioLicence[] = tiers.map((t) => {
     const rule = rules.get(t.id);
+    // A locked tier is shown as what every save and publish stores for it: withdrawn.
+    const locked = t.use === 'commercial' && !commercialOk;
     return {
       tierId: t.id, slug: t.slug, name: t.name, use: t.use, summary: t.summary, defaultPrice: t.defaultPrice,
-      mode: rule?.mode ?? 'default',
-      price: rule?.mode === 'override' ? rule.price : null,
-      locked: t.use === 'commercial' && !commercialOk,
+      mode: locked ? 'withdrawn' : rule?.mode ?? 'default',
+      price: !locked && rule?.mode === 'override' ? rule.price : null,
+      locked,
     };
   });
 
