@@ -76,6 +76,26 @@ describe('accounts in the browser', () => {
   });
 });
 
+describe('cross-site requests', () => {
+  it('refuses form posts and sign-ins that come from another site', async () => {
+    // Astro's checkOrigin refuses a cross-site form-encoded POST before any route runs.
+    const form = await fetch(`${baseUrl}/api/cart/quote`, {
+      method: 'POST',
+      headers: { Origin: 'https://elsewhere.example', 'Content-Type': 'application/x-www-form-urlencoded' },
+      body: 'lines=1',
+    });
+    expect(form.status).toBe(403);
+    // better-auth checks the Origin of its own state-changing requests.
+    const signIn = await fetch(`${baseUrl}/api/auth/sign-in/email`, {
+      method: 'POST',
+      headers: { Origin: 'https://elsewhere.example', 'Content-Type': 'application/json' },
+      body: JSON.stringify({ email: 'orla@kestrel-studio.example', password: 'studio-demo-2026' }),
+    });
+    expect(signIn.status).toBe(403);
+    expect(signIn.headers.getSetCookie().some((c) => c.includes('session_token='))).toBe(false);
+  });
+});
+
 describe('the photographer’s Studio journey', () => {
   let page: Page;
   beforeAll(async () => {

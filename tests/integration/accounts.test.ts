@@ -137,6 +137,17 @@ describe('accounts through better-auth and the Sequelize adapter', () => {
     expect(again.body.code).toBe('BANNED_USER');
   });
 
+  it('refuses a sign-in posted from another site', async () => {
+    await verifiedAccount('fred@example.com');
+    const response = await auth().handler(new Request('http://localhost:4321/api/auth/sign-in/email', {
+      method: 'POST',
+      headers: { Origin: 'https://elsewhere.example', 'Content-Type': 'application/json', 'x-stillmark-client-ip': '198.51.100.77' },
+      body: JSON.stringify({ email: 'fred@example.com', password: 'correct horse battery' }),
+    }));
+    expect(response.status).toBe(403);
+    expect(response.headers.getSetCookie()).toEqual([]);
+  });
+
   it('reads a forged or missing session cookie as signed out', async () => {
     expect(await sessionFor('')).toBeNull();
     expect(await sessionFor('stillmark.session_token=forged.value')).toBeNull();

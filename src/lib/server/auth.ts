@@ -88,6 +88,10 @@ function createAuth() {
       useSecureCookies: cfg.publicOrigin.startsWith('https:'),
       defaultCookieAttributes: { httpOnly: true, sameSite: 'lax' },
       ipAddress: { ipAddressHeaders: [CLIENT_IP_HEADER] },
+      // better-auth turns its origin and CSRF checks off when it thinks it runs under a test runner;
+      // we want them on everywhere, tests included, so the tests check what production does.
+      disableOriginCheck: false,
+      disableCSRFCheck: false,
     },
     plugins: [admin({ ac, roles: accessRoles, defaultRole: 'buyer', adminRoles: ['admin'] })],
   });
