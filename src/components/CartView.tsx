@@ -107,7 +107,14 @@ function CartLines() {
         <dt className="font-display text-xl">Total</dt>
         <dd className="price text-right" data-testid="cart-total">{money(data.total)}</dd>
       </dl>
-      <p className="mt-2 text-right text-xs text-ink-soft">Prices checked by the shop just now. Shipping and tax are added at checkout.</p>
+      <p className="mt-2 text-right text-xs text-ink-soft">Prices checked by the shop just now and include VAT. Shipping is added at checkout.</p>
+      <div className="mt-6 text-right">
+        {data.lines.every((l) => l.ok) ? (
+          <a href="/checkout" className="btn-primary no-underline" data-testid="to-checkout">Checkout</a>
+        ) : (
+          <p className="text-sm text-ember">Remove the lines that cannot be bought to continue.</p>
+        )}
+      </div>
     </div>
   );
 }

@@ -18,6 +18,12 @@ const envSchema = z.object({
   MAIL_FROM: z.string().min(3).default('Stillmark <shop@stillmark.local>'),
   /** The mail catcher's HTTP API, read by Dispatch → Mail. Unset when a real relay is used. */
   MAIL_CATCHER_URL: z.url().optional(),
+  /** Stripe: a test key and the API address; the default points at the local fake that `npm start` runs. */
+  STRIPE_SECRET_KEY: z.string().regex(/^sk_(test|live)_\w+$/, { message: 'must look like sk_test_… or sk_live_…' }).default('sk_test_stillmark_local'),
+  STRIPE_API_BASE: z.url().default('http://127.0.0.1:12111'),
+  STRIPE_WEBHOOK_SECRET: z.string().startsWith('whsec_').default('whsec_stillmark_local_demo'),
+  DOWNLOAD_DAYS: z.coerce.number().int().min(1).max(90).default(7),
+  DOWNLOAD_LIMIT: z.coerce.number().int().min(1).max(100).default(5),
   UPLOAD_MAX_MB: megabytes(200),
   /** Largest original accepted, in megapixels. */
   UPLOAD_MAX_MEGAPIXELS: megabytes(150),
@@ -38,6 +44,11 @@ export interface ServerConfig {
   mailCatcherUrl: string | null;
   uploadMaxBytes: number;
   uploadMaxPixels: number;
+  stripeSecretKey: string;
+  stripeApiBase: string;
+  stripeWebhookSecret: string;
+  downloadDays: number;
+  downloadLimit: number;
 }
 
 /** Used only outside production when AUTH_SECRET is unset, so the demo runs with no set-up. */
@@ -71,6 +82,11 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): ServerConfig {
     mailCatcherUrl: e.MAIL_CATCHER_URL ?? null,
     uploadMaxBytes: e.UPLOAD_MAX_MB * 1024 * 1024,
     uploadMaxPixels: e.UPLOAD_MAX_MEGAPIXELS * 1_000_000,
+    stripeSecretKey: e.STRIPE_SECRET_KEY,
+    stripeApiBase: e.STRIPE_API_BASE,
+    stripeWebhookSecret: e.STRIPE_WEBHOOK_SECRET,
+    downloadDays: e.DOWNLOAD_DAYS,
+    downloadLimit: e.DOWNLOAD_LIMIT,
   };
 }
 

@@ -2,6 +2,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import sqlite3 from 'sqlite3';
+import { AsyncLocalStorage } from 'node:async_hooks';
 import { Sequelize, Transaction } from 'sequelize';
 import { config } from './config';
 import { initModels } from './models';
@@ -38,8 +39,30 @@ export function createSequelize(databasePath: string, logSql = false): Sequelize
     transactionType: Transaction.TYPES.IMMEDIATE,
     define: { underscored: true },
   });
+  queueWriteTransactions(sequelize);
   initModels(sequelize);
   return sequelize;
+}
+
+/**
+ * SQLite has one writer at a time. node-sqlite3 waits for a busy lock on libuv's small thread pool, so
+ * many transactions waiting at once can starve the one holding the lock of a thread and stall every
+ * request until the busy timeout. Managed transactions therefore take turns in-process (the busy timeout
+ * still covers other processes); a transaction started inside another one's callback runs at once.
+ */
+function queueWriteTransactions(sequelize: Sequelize): void {
+  const inside = new AsyncLocalStorage<true>();
+  let tail: Promise<unknown> = Promise.resolve();
+  const original = sequelize.transaction.bind(sequelize) as (...args: unknown[]) => Promise<unknown>;
+  (sequelize as unknown as { transaction: (...args: unknown[]) => Promise<unknown> }).transaction = (...args: unknown[]) => {
+    const callback = args.find((a) => typeof a === 'function') as ((t: Transaction) => Promise<unknown>) | undefined;
+    if (!callback || inside.getStore()) return original(...args);
+    const options = args.find((a) => typeof a === 'object' && a !== null);
+    const run = () => inside.run(true, () => (options ? original(options, callback) : original(callback)));
+    const result = tail.then(run, run);
+    tail = result.catch(() => undefined);
+    return result;
+  };
 }
 
 let instance: Sequelize | undefined;

@@ -13,6 +13,8 @@ export class ShopSettings extends Model<InferAttributes<ShopSettings>, InferCrea
   declare viewingDistanceFactor: number;
   declare watermarkText: string;
   declare limitedEditionPremiumBp: number;
+  declare vatRateBp: CreationOptional<number>;
+  declare reservationMinutes: CreationOptional<number>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -30,6 +32,8 @@ export class ShopSettings extends Model<InferAttributes<ShopSettings>, InferCrea
         viewingDistanceFactor: DataTypes.REAL,
         watermarkText: DataTypes.STRING,
         limitedEditionPremiumBp: DataTypes.INTEGER,
+        vatRateBp: { type: DataTypes.INTEGER, defaultValue: 2000 },
+        reservationMinutes: { type: DataTypes.INTEGER, defaultValue: 30 },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -8,8 +8,14 @@ import { PrintSize } from './PrintSize';
 import { Paper } from './Paper';
 import { Edition } from './Edition';
 import { PrintOffer } from './PrintOffer';
+import { Order } from './Order';
+import { OrderLine } from './OrderLine';
+import { EditionNumber } from './EditionNumber';
+import { Licence } from './Licence';
+import { DownloadGrant } from './DownloadGrant';
+import { ShippingZone } from './ShippingZone';
 
-export { ShopSettings, Series, Work, LicenceTier, WorkLicencePrice, PrintSize, Paper, Edition, PrintOffer };
+export { ShopSettings, Series, Work, LicenceTier, WorkLicencePrice, PrintSize, Paper, Edition, PrintOffer, Order, OrderLine, EditionNumber, Licence, DownloadGrant, ShippingZone };
 
 let initialisedFor: Sequelize | undefined;
 
@@ -17,7 +23,7 @@ let initialisedFor: Sequelize | undefined;
 export function initModels(sequelize: Sequelize): void {
   if (initialisedFor === sequelize) return;
   initialisedFor = sequelize;
-  for (const model of [ShopSettings, Series, Work, LicenceTier, WorkLicencePrice, PrintSize, Paper, Edition, PrintOffer]) {
+  for (const model of [ShopSettings, Series, Work, LicenceTier, WorkLicencePrice, PrintSize, Paper, Edition, PrintOffer, Order, OrderLine, EditionNumber, Licence, DownloadGrant, ShippingZone]) {
     model.initModel(sequelize);
   }
   Series.hasMany(Work, { as: 'works', foreignKey: 'seriesId' });
@@ -31,4 +37,6 @@ export function initModels(sequelize: Sequelize): void {
   PrintOffer.belongsTo(PrintSize, { as: 'size', foreignKey: 'printSizeId' });
   PrintOffer.belongsTo(Paper, { as: 'paper', foreignKey: 'paperId' });
   PrintOffer.belongsTo(Edition, { as: 'edition', foreignKey: 'editionId' });
+  Order.hasMany(OrderLine, { as: 'lines', foreignKey: 'orderId' });
+  OrderLine.belongsTo(Order, { as: 'order', foreignKey: 'orderId' });
 }

@@ -1,0 +1,72 @@
+/** What follows a committed Stripe event: automatic refunds for lost editions, and the buyer's mail. */
+import type Stripe from 'stripe';
+import { stripe } from './stripe';
+import { sendMail } from './mail';
+import { Order, OrderLine, Licence, ShopSettings } from './models';
+import { formatMoney } from '../money';
+import { config } from './config';
+
+function escape(value: string): string {
+  return value.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
+}
+
+/** Runs after the event's transaction committed; a failure here is logged and retried by Stripe's next delivery only for refunds. */
+export async function afterStripeEvent(
+  event: Stripe.Event,
+  result: { orderNumber?: string; refund?: { paymentIntent: string; orderNumber: string; reason: string } },
+): Promise<void> {
+  if (result.refund) {
+    await stripe().refunds.create(
+      { payment_intent: result.refund.paymentIntent, reason: 'requested_by_customer', metadata: { order_number: result.refund.orderNumber, why: result.refund.reason } },
+      { idempotencyKey: `auto-refund-${result.refund.orderNumber}` },
+    );
+  }
+  if (!result.orderNumber) return;
+  const order = await Order.findOne({ where: { number: result.orderNumber } });
+  if (!order) return;
+  try {
+    await mailFor(event.type, order);
+  } catch (error) {
+    // The order stands even when mail cannot be sent; the buyer's account shows everything.
+    console.error(`mail for order ${order.number} failed`, error);
+  }
+}
+
+async function mailFor(type: string, order: Order): Promise<void> {
+  const shopName = (await ShopSettings.findByPk(1))?.shopName ?? 'Stillmark';
+  const origin = config().publicOrigin;
+  const money = (n: number) => formatMoney(n, order.currency);
+  if (type === 'checkout.session.completed' && order.status === 'refunded') {
+    await sendMail({
+      to: order.email,
+      subject: `${shopName}: your order ${order.number} was refunded`,
+      text: `Your payment for order ${order.number} arrived after the last print of its edition had been sold. You have been refunded ${money(order.total)} in full.\n\n${origin}/account`,
+    });
+    return;
+  }
+  if (type === 'checkout.session.completed' && order.status === 'paid') {
+    const lines = await OrderLine.findAll({ where: { orderId: order.id } });
+    const licences = await Licence.findAll({ where: { orderLineId: lines.map((l) => l.id) } });
+    const rows = lines.map((l) => `${(l.snapshot as { workTitle: string }).workTitle} — ${l.description} × ${l.quantity}: ${money(l.subtotal)}`);
+    const text = [
+      `Thank you. Order ${order.number} is paid.`,
+      '',
+      ...rows,
+      order.shipping ? `Shipping: ${money(order.shipping)}` : '',
+      `Total: ${money(order.total)} (including VAT ${money(order.taxIncluded)})`,
+      '',
+      licences.length ? `Licences: ${licences.map((l) => l.id).join(', ')}. Download the files and certificates from your account:` : 'Follow your prints from your account:',
+      `${origin}/account`,
+    ].filter((line, i, all) => line !== '' || all[i - 1] !== '').join('\n');
+    const html = `<p>Thank you. Order <strong>${escape(order.number)}</strong> is paid.</p><ul>${rows.map((r) => `<li>${escape(r)}</li>`).join('')}</ul><p>Total ${escape(money(order.total))} (including VAT ${escape(money(order.taxIncluded))}).</p><p><a href="${escape(origin)}/account">Your account</a></p>`;
+    await sendMail({ to: order.email, subject: `${shopName}: receipt for order ${order.number}`, text, html });
+    return;
+  }
+  if (type === 'payment_intent.payment_failed') {
+    await sendMail({
+      to: order.email,
+      subject: `${shopName}: the payment for order ${order.number} did not go through`,
+      text: `${order.note ?? 'The card was declined.'}\n\nNothing was charged. You can try again from your cart: ${origin}/cart`,
+    });
+  }
+}

@@ -1,0 +1,47 @@
+import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize';
+
+/** One bought thing, with its price and terms copied as they stood when the order was made. */
+export class OrderLine extends Model<InferAttributes<OrderLine>, InferCreationAttributes<OrderLine>> {
+  declare id: CreationOptional<number>;
+  declare orderId: number;
+  declare kind: 'licence' | 'print';
+  declare workId: number;
+  declare licenceTierId: number | null;
+  declare printOfferId: number | null;
+  declare editionId: number | null;
+  declare mode: 'fill' | 'fit' | null;
+  declare quantity: number;
+  declare unitPrice: number;
+  declare subtotal: number;
+  declare description: string;
+  declare detail: string;
+  declare snapshot: Record<string, unknown>;
+  declare status: CreationOptional<string>;
+  declare createdAt: CreationOptional<Date>;
+  declare updatedAt: CreationOptional<Date>;
+
+  static initModel(sequelize: Sequelize): void {
+    OrderLine.init(
+      {
+        id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+        orderId: DataTypes.INTEGER,
+        kind: DataTypes.STRING,
+        workId: DataTypes.INTEGER,
+        licenceTierId: DataTypes.INTEGER,
+        printOfferId: DataTypes.INTEGER,
+        editionId: DataTypes.INTEGER,
+        mode: DataTypes.STRING,
+        quantity: DataTypes.INTEGER,
+        unitPrice: DataTypes.INTEGER,
+        subtotal: DataTypes.INTEGER,
+        description: DataTypes.STRING,
+        detail: DataTypes.TEXT,
+        snapshot: DataTypes.JSON,
+        status: { type: DataTypes.STRING, defaultValue: 'open' },
+        createdAt: DataTypes.DATE,
+        updatedAt: DataTypes.DATE,
+      },
+      { sequelize, tableName: 'order_lines' },
+    );
+  }
+}

@@ -1,0 +1,22 @@
+import type { APIRoute } from 'astro';
+import { config } from '~/lib/server/config';
+import { jsonError } from '~/lib/server/http';
+import { stripe } from '~/lib/server/stripe';
+import { applyStripeEvent } from '~/lib/server/checkout';
+import { afterStripeEvent } from '~/lib/server/fulfilment';
+
+/** Stripe's events: raw body, signature verified with the SDK (300 s tolerance), each event applied once. */
+export const POST = (async ({ request }) => {
+  const signature = request.headers.get('stripe-signature');
+  if (!signature) return jsonError(400, 'missing_signature', 'The Stripe-Signature header is missing.');
+  const raw = await request.text();
+  let event;
+  try {
+    event = await stripe().webhooks.constructEventAsync(raw, signature, config().stripeWebhookSecret);
+  } catch {
+    return jsonError(400, 'bad_signature', 'The signature does not match this payload.');
+  }
+  const result = await applyStripeEvent(event);
+  if (result.outcome === 'handled') await afterStripeEvent(event, result);
+  return Response.json({ received: true, outcome: result.outcome });
+}) satisfies APIRoute;
