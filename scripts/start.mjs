@@ -61,6 +61,34 @@ async function startMailCatcher() {
   return { SMTP_URL: `smtp://127.0.0.1:${smtpPort}`, MAIL_CATCHER_URL: apiUrl };
 }
 
+let stripeFake;
+
+/** Starts the local Stripe fake unless STRIPE_API_BASE names a real service; resolves with the server's Stripe settings. */
+async function startStripeFake() {
+  const fakePort = process.env.STRIPE_FAKE_PORT || '12111';
+  const apiBase = `http://127.0.0.1:${fakePort}`;
+  const secret = process.env.STRIPE_WEBHOOK_SECRET || 'whsec_stillmark_local_demo';
+  stripeFake = spawn(process.execPath, ['--import', 'tsx', 'src/fakes/stripe/cli.ts'], {
+    stdio: 'inherit',
+    env: { ...process.env, STRIPE_FAKE_PORT: fakePort, STRIPE_WEBHOOK_URL: `http://127.0.0.1:${port}/api/stripe/webhook`, STRIPE_WEBHOOK_SECRET: secret },
+  });
+  const deadline = Date.now() + 15_000;
+  while (Date.now() < deadline) {
+    try {
+      if ((await fetch(`${apiBase}/`, { signal: AbortSignal.timeout(1_000) })).ok) break;
+    } catch {
+      // not listening yet
+    }
+    if (stripeFake.exitCode !== null) break;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  return { STRIPE_API_BASE: apiBase, STRIPE_WEBHOOK_SECRET: secret, STRIPE_SECRET_KEY: process.env.STRIPE_SECRET_KEY || 'sk_test_stillmark_local' };
+}
+
+function stopStripeFake() {
+  if (stripeFake && stripeFake.exitCode === null && stripeFake.signalCode === null) stripeFake.kill('SIGTERM');
+}
+
 function stopMailCatcher() {
   if (!catcher || catcher.exitCode !== null || catcher.signalCode !== null) return Promise.resolve();
   stopping = true;
@@ -80,19 +108,24 @@ try {
     await run(process.execPath, ['node_modules/astro/astro.js', 'build']);
   }
   const mailEnv = process.env.SMTP_URL ? {} : await startMailCatcher();
+  const stripeEnv = process.env.STRIPE_API_BASE ? {} : await startStripeFake();
+  if (process.env.STRIPE_API_BASE) console.log(`Payments go to ${process.env.STRIPE_API_BASE}; the local Stripe fake is not started.`);
   if (process.env.SMTP_URL) console.log('Mail goes to the relay in SMTP_URL; the local mail catcher is not started.');
   console.log(`\nStillmark is running at ${process.env.PUBLIC_ORIGIN}`);
   console.log('Demo accounts (role, e-mail, password):');
   for (const [role, email, password] of DEMO_ACCOUNTS) console.log(`  ${role.padEnd(13)} ${email.padEnd(32)} ${password}`);
   if (mailEnv.MAIL_CATCHER_URL) console.log('Mail the shop sends is caught locally: read it in Dispatch → Mail (sign in as admin).');
+  if (stripeEnv.STRIPE_API_BASE) console.log(`Payments use the local Stripe fake at ${stripeEnv.STRIPE_API_BASE} (card 4242 4242 4242 4242 pays; 4000 0000 0000 0002 is declined).`);
   console.log('');
-  const server = spawn(process.execPath, ['dist/server/entry.mjs'], { stdio: 'inherit', env: { ...process.env, HOST: host, PORT: port, ...mailEnv } });
+  const server = spawn(process.execPath, ['dist/server/entry.mjs'], { stdio: 'inherit', env: { ...process.env, HOST: host, PORT: port, ...mailEnv, ...stripeEnv } });
   for (const signal of ['SIGINT', 'SIGTERM']) process.on(signal, () => server.kill(signal));
   server.on('exit', (code) => {
+    stopStripeFake();
     stopMailCatcher().then(() => process.exit(code ?? 0));
   });
 } catch (error) {
   console.error(error instanceof Error ? error.message : error);
+  stopStripeFake();
   await stopMailCatcher();
   process.exit(1);
 }

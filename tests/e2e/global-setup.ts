@@ -10,9 +10,10 @@ import os from 'node:os';
 import path from 'node:path';
 import type { TestProject } from 'vitest/node';
 import { startMailCatcher, type MailCatcher } from '../../src/fakes/mail/catcher';
+import { startStripeFake, type StripeFake } from '../../src/fakes/stripe/server';
 
 declare module 'vitest' {
-  export interface ProvidedContext { baseUrl: string; dataDir: string; mailCatcherUrl: string }
+  export interface ProvidedContext { baseUrl: string; dataDir: string; stripeFakeUrl: string; mailCatcherUrl: string }
 }
 
 function freePort(): Promise<number> {
@@ -42,6 +43,7 @@ async function waitFor(url: string, timeoutMs: number): Promise<void> {
 
 let server: ChildProcess | undefined;
 let catcher: MailCatcher | undefined;
+let stripeFake: StripeFake | undefined;
 
 export default async function setup(project: TestProject) {
   if (!fs.existsSync('dist/server/entry.mjs')) throw new Error('Build the app first: npm run build');
@@ -60,8 +62,11 @@ export default async function setup(project: TestProject) {
   const mailDir = fs.mkdtempSync(path.join(os.tmpdir(), 'stillmark-e2e-mail-'));
   catcher = await startMailCatcher({ smtpPort: 0, httpPort: 0, storeFile: path.join(mailDir, 'mail-catcher.jsonl') });
   const mailCatcherUrl = `http://127.0.0.1:${catcher.httpPort}`;
+  const stripeSecret = `whsec_${randomBytes(16).toString('hex')}`;
+  stripeFake = await startStripeFake({ port: 0, stateFile: path.join(mailDir, 'stripe-fake.json'), webhookUrl: `${baseUrl}/api/stripe/webhook`, webhookSecret: stripeSecret });
   server = spawn(process.execPath, ['dist/server/entry.mjs'], {
-    env: { ...env, HOST: '127.0.0.1', PORT: String(port), SMTP_URL: `smtp://127.0.0.1:${catcher.smtpPort}`, MAIL_CATCHER_URL: mailCatcherUrl },
+    env: { ...env, HOST: '127.0.0.1', PORT: String(port), SMTP_URL: `smtp://127.0.0.1:${catcher.smtpPort}`, MAIL_CATCHER_URL: mailCatcherUrl,
+      STRIPE_API_BASE: stripeFake.url, STRIPE_WEBHOOK_SECRET: stripeSecret, STRIPE_SECRET_KEY: 'sk_test_e2e' },
     stdio: ['ignore', 'inherit', 'inherit'],
   });
   try {
@@ -74,8 +79,10 @@ export default async function setup(project: TestProject) {
   project.provide('baseUrl', baseUrl);
   project.provide('dataDir', dataDir);
   project.provide('mailCatcherUrl', mailCatcherUrl);
+  project.provide('stripeFakeUrl', stripeFake.url);
   return async () => {
     server?.kill('SIGTERM');
+    await stripeFake?.close();
     await catcher?.close();
     fs.rmSync(mailDir, { recursive: true, force: true });
     if (!process.env.E2E_DATA_DIR) fs.rmSync(dataDir, { recursive: true, force: true });

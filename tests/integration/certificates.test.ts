@@ -200,7 +200,7 @@ describe('licence certificate', () => {
     const descriptor = trueType!.lookup(PDFName.of('FontDescriptor'), PDFDict);
     const file = descriptor.lookup(PDFName.of('FontFile2'));
     expect(file).toBeInstanceOf(PDFRawStream);
-    // Length1 is the font program's length before compression (PDF 32000-1 Table 127): the whole TTF.
+    // Length1 is the font program's length before compression (PDF 32000-1 §9.9, embedded font streams): the whole TTF.
     const length1 = (file as PDFRawStream).dict.lookup(PDFName.of('Length1'), PDFNumber).asNumber();
     expect(length1).toBe(fs.statSync(TITLE_FONT_FILE).size);
     const ttf = zlib.inflateSync(Buffer.from((file as PDFRawStream).getContents()));
@@ -213,27 +213,37 @@ describe('licence certificate', () => {
     expect(Buffer.from(a).equals(Buffer.from(b))).toBe(true);
   });
 
-  it('prints long terms in full on the one page', async () => {
+  it('prints terms as long as the Studio allows (4,000 characters) in full on the one page', async () => {
     const sentence = 'The picture may appear once per issue, at any size, with the credit beside it. ';
-    const terms = sentence.repeat(30).trim(); // about 2,400 characters
+    const terms = sentence.repeat(50).slice(0, 4000).trim();
     const { pages, flat } = await readPdf(await licenceCertificatePdf({ ...licence, tier: { ...licence.tier, terms } }));
     expect(pages).toHaveLength(1);
     expect(flat).toContain(terms);
   });
 
-  it('carries terms too long for one page over to a second, losing nothing', async () => {
-    const terms = 'Each printed copy counts toward the cap, whether sold or given away. '.repeat(70).trim(); // ~4,800 characters
-    const { pages } = await readPdf(await licenceCertificatePdf({ ...licence, tier: { ...licence.tier, terms } }));
+  it('carries terms that cannot fit beside very long entries overleaf, losing nothing', async () => {
+    const long = (n: number) => 'Wide words '.repeat(Math.ceil(n / 11)).slice(0, n).trim();
+    const terms = 'Each printed copy counts toward the cap, whether sold or given away. '.repeat(80).slice(0, 4950).trim();
+    const { pages } = await readPdf(
+      await licenceCertificatePdf({
+        ...licence,
+        shopName: long(80),
+        photographerName: long(80),
+        work: { ...licence.work, title: long(120) },
+        licensee: { name: long(120), organisation: long(120) },
+        tier: { ...licence.tier, name: long(80), media: long(200), territory: long(120), terms },
+      }),
+    );
     expect(pages).toHaveLength(2);
     const [first, second] = pages.map((p) => shownStrings(p).join(' ').replace(/\s+/g, ' '));
     // Page one keeps its footer (check address, personal-licence line); the terms go on overleaf.
-    const onFirst = /TERMS OF USE (.*) CHECK THIS LICENCE/.exec(first!)![1]!;
-    const onSecond = /TERMS OF USE, CONTINUED (.*)$/.exec(second!)![1]!;
+    const onFirst = /TERMS OF USE (.*)$/.exec(first!)![1]!; // the terms are drawn last
+    const onSecond = /Licence SMK-L-7Q4M-2KX9: terms of use, continued (.*)$/.exec(second!)![1]!;
     expect(`${onFirst} ${onSecond}`).toBe(terms);
     expect(first).toContain('It cannot be transferred');
-    expect(second).toContain('SMK-L-7Q4M-2KX9');
     for (const page of pages) {
       expect(page.getSize().width).toBeCloseTo(A4_WIDTH_PT, 2);
+      expect(page.getSize().height).toBeCloseTo(A4_HEIGHT_PT, 2);
     }
   });
 
@@ -279,6 +289,30 @@ describe('certificate of authenticity', () => {
     expect(doc.getKeywords()).toContain('7/25');
   });
 
+  it('keeps every entry on the one page even when each is as long as allowed', async () => {
+    const long = (n: number) => 'Wide words '.repeat(Math.ceil(n / 11)).slice(0, n).trim();
+    const { pages, flat } = await readPdf(
+      await authenticityCertificatePdf({
+        ...print,
+        shopName: long(80),
+        photographerName: long(80),
+        work: { ...print.work, title: long(120) },
+        edition: { number: 999, total: 1000, artistProofs: 100 },
+        size: { ...print.size, label: long(40) },
+        paper: { name: long(80), weightGsm: 310, note: long(120) },
+        process: long(100),
+        inkSet: long(80),
+        printedBy: long(120),
+        signatureNote: long(160),
+        careNote: long(400),
+      }),
+    );
+    expect(pages).toHaveLength(1);
+    expect(shownStrings(pages[0]!)).toContain('999/1000');
+    expect(flat).toContain('SMK-C-000123');
+    expect(flat).toContain("ARTIST'S SIGNATURE");
+  });
+
   it('says so when the edition is shared across sizes', async () => {
     const { flat } = await readPdf(await authenticityCertificatePdf({ ...print, edition: { ...print.edition, sharedAcrossSizes: true } }));
     expect(flat).toContain('Every size of this work together');
@@ -317,6 +351,12 @@ describe('text outside WinAnsi', () => {
     expect(shownStrings(doc.getPages()[0]!)).toContain('7/25');
     expect(doc.getSubject()).toContain('梨'); // metadata is UTF-16 and keeps the title exactly
     expect(doc.getSubject()).toContain('Zoë Ōkubo');
+  });
+
+  it('survives a shop name whose capitals leave WinAnsi (µ → Greek Μ)', async () => {
+    const { text } = await readPdf(await licenceCertificatePdf({ ...licence, shopName: 'Studio µ' }));
+    expect(text).toContain('STUDIO ?');
+    expect(text).toContain('Studio µ'); // in running text, as written
   });
 
   it('does the same on the licence certificate', async () => {

@@ -1,6 +1,7 @@
 /**
- * Certificates as one-page A4 PDFs (pdf-lib): the licence certificate a buyer receives with a
- * licensed file, and the certificate of authenticity that goes with each limited-edition print.
+ * Certificates as A4 PDFs (pdf-lib): the licence certificate a buyer receives with a licensed file,
+ * and the certificate of authenticity that goes with each limited-edition print. Each is one page;
+ * long entries shrink the page evenly, and only licence terms too long for that go on overleaf.
  *
  * Type: titles are set in DM Serif Display, the shop's display face, from the TTF shipped in
  * node_modules. pdf-lib only embeds TrueType through the optional `@pdf-lib/fontkit` package, which
@@ -109,11 +110,11 @@ export const licenceCertificateSchema = z
   .object({
     licenceId: identifier('Licence ID'),
     issuedAt: moment('Issue date'),
-    shopName: requiredText('Shop name', 120),
-    photographerName: requiredText('Photographer', 120),
+    shopName: requiredText('Shop name', 80),
+    photographerName: requiredText('Photographer', 80),
     work: z.object(
       {
-        title: requiredText('Work title', 200),
+        title: requiredText('Work title', 120),
         year: year('Year of the work'),
         pixelWidth: positiveInt('Pixel width'),
         pixelHeight: positiveInt('Pixel height'),
@@ -121,19 +122,19 @@ export const licenceCertificateSchema = z
       { error: 'The work is missing.' },
     ),
     licensee: z.object(
-      { name: requiredText('Licensee name', 160), organisation: optionalText('Licensee organisation', 160) },
+      { name: requiredText('Licensee name', 120), organisation: optionalText('Licensee organisation', 120) },
       { error: 'The licensee is missing.' },
     ),
     tier: z.object(
       {
-        name: requiredText('Licence tier', 120),
+        name: requiredText('Licence tier', 80),
         use: z.enum(['editorial', 'commercial'], { error: 'Use must be editorial or commercial.' }),
         terms: requiredText('Licence terms', MAX_TERMS_LENGTH),
-        media: requiredText('Permitted media', 300),
+        media: requiredText('Permitted media', 200),
         /** Audience or print-run cap; null means none. */
         cap: positiveInt('Cap').nullable(),
-        capUnit: optionalText('Cap unit', 60),
-        territory: requiredText('Territory', 200),
+        capUnit: optionalText('Cap unit', 40),
+        territory: requiredText('Territory', 120),
       },
       { error: 'The licence tier is missing.' },
     ),
@@ -141,7 +142,7 @@ export const licenceCertificateSchema = z
     /** Last day of the licence; null when it has no end. */
     endsOn: calendarDay('End date').nullable(),
     /** The amount paid, already formatted (e.g. "£120.00"). */
-    price: requiredText('Price', 40),
+    price: requiredText('Price', 32),
     checkUrl: webAddress('Check page address'),
   })
   .refine((d) => d.endsOn === null || d.endsOn >= d.startsOn, { path: ['endsOn'], message: 'The licence cannot end before it starts.' });
@@ -158,12 +159,12 @@ export const authenticityCertificateSchema = z
   .object({
     serial: identifier('Certificate serial'),
     issuedAt: moment('Issue date'),
-    shopName: requiredText('Shop name', 120),
+    shopName: requiredText('Shop name', 80),
     /** The artist. */
-    photographerName: requiredText('Artist', 120),
+    photographerName: requiredText('Artist', 80),
     work: z.object(
       {
-        title: requiredText('Work title', 200),
+        title: requiredText('Work title', 120),
         yearCaptured: year('Year of capture'),
         yearPrinted: year('Year printed'),
       },
@@ -188,7 +189,7 @@ export const authenticityCertificateSchema = z
     size: z.object(
       {
         /** e.g. "A3" or "11 × 14 in". */
-        label: requiredText('Print size', 60),
+        label: requiredText('Print size', 40),
         unit: z.enum(['mm', 'in'], { error: 'Size unit must be mm or in.' }),
         /** Sheet size. */
         width: positiveLength('Sheet width'),
@@ -201,19 +202,19 @@ export const authenticityCertificateSchema = z
     ),
     paper: z.object(
       {
-        name: requiredText('Paper', 120),
+        name: requiredText('Paper', 80),
         weightGsm: positiveInt('Paper weight').nullish(),
         /** Anything else worth stating, e.g. "100 % cotton, no optical brighteners". */
-        note: optionalText('Paper note', 200),
+        note: optionalText('Paper note', 120),
       },
       { error: 'The paper is missing.' },
     ),
     /** Medium and process, e.g. "pigment inkjet print". */
-    process: requiredText('Process (medium)', 160),
-    inkSet: optionalText('Ink set', 120),
-    printedBy: requiredText('Printer', 160),
-    signatureNote: optionalText('Signature note', 200),
-    careNote: optionalText('Care note', 600),
+    process: requiredText('Process (medium)', 100),
+    inkSet: optionalText('Ink set', 80),
+    printedBy: requiredText('Printer', 120),
+    signatureNote: optionalText('Signature note', 160),
+    careNote: optionalText('Care note', 400),
   })
   .superRefine((d, ctx) => {
     if (d.edition.number > d.edition.total) {
@@ -298,7 +299,8 @@ async function standardFace(doc: PDFDocument, name: StandardFonts): Promise<Face
   );
   return {
     ref,
-    width: (text, size) => metrics.widthOfTextAtSize(text, size),
+    // Sum of the /Widths, without the AFM's kerning, because the text is shown unkerned.
+    width: (text, size) => [...text].reduce((sum, c) => sum + (widths[(winAnsiCode(c.codePointAt(0)!) ?? 0x3f) - 32] ?? 0), 0) * (size / 1000),
     encode: (text) => metrics.encodeText(text),
     covers: (text) => [...text].every((c) => supported.has(c.codePointAt(0)!)),
   };
@@ -606,13 +608,18 @@ class Sheet {
     return face.covers(text) ? face : this.faces.serif;
   }
 
-  measure(text: string, style: TextStyle): number {
+  measure(raw: string, style: TextStyle): number {
+    const text = toWinAnsiText(raw);
     const face = this.faceFor(text, style.face);
     return face.width(text, style.size) + (style.tracking ?? 0) * Math.max(0, [...text].length - 1);
   }
 
-  /** Draws one line of safe text with its baseline at (x, y). */
-  draw(text: string, x: number, y: number, style: TextStyle): void {
+  /**
+   * Draws one line with its baseline at (x, y). Callers pass WinAnsi-safe text already; it is made
+   * safe again here because a later step (upper-casing "µ" gives Greek "Μ") can leave the set.
+   */
+  draw(raw: string, x: number, y: number, style: TextStyle): void {
+    const text = toWinAnsiText(raw);
     if (!text || !this.page) return;
     const face = this.faceFor(text, style.face);
     const color = style.color ?? INK;
@@ -838,8 +845,10 @@ export async function licenceCertificatePdf(data: LicenceCertificateData): Promi
   let fallback: { scale: number; size: number } | undefined;
   for (const scale of SCALES) {
     const dry = new Sheet(doc, faces, { scale, dry: true });
-    const room = dry.y - licenceFrame(dry, d) - 12;
-    for (let size = 10; size >= 8 && !choice; size -= 0.5) {
+    const footerTop = licenceFrame(dry, d);
+    const room = dry.y - footerTop - 12;
+    // Terms stay at 6.4 pt or larger on paper (8 pt at scale 0.8); smaller than that, they go overleaf.
+    for (let size = 10; size >= 8 && scale >= 0.8 && !choice; size -= 0.5) {
       if (termLines(dry, size).length * size * TERMS_LEADING <= room) choice = { scale, size };
     }
     if (choice) break;
@@ -863,9 +872,10 @@ export async function licenceCertificatePdf(data: LicenceCertificateData): Promi
   let rest = lines.slice(fitting);
   while (rest.length > 0) {
     const more = new Sheet(doc, faces, { scale });
-    more.kicker(line(`${d.shopName} · Licence ${d.licenceId}`));
-    more.y -= 8;
-    more.kicker('Terms of use, continued', INK_SOFT);
+    more.kicker(line(d.shopName));
+    more.y -= 16;
+    more.draw(`Licence ${d.licenceId}: terms of use, continued`, MARGIN, more.y, { face: faces.sans, size: 9, color: INK_SOFT });
+    more.y -= 4;
     const room = Math.max(1, Math.floor((more.y - more.bottom) / leading));
     for (const l of rest.slice(0, room)) {
       more.y -= leading;

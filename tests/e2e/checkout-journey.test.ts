@@ -1,0 +1,100 @@
+import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
+import type { Browser, Page } from 'playwright-core';
+import { islandsReady, launchBrowser, screenshotPath } from './browser';
+
+const baseUrl = inject('baseUrl');
+let browser: Browser;
+let page: Page;
+
+async function signIn(email: string, password: string) {
+  await page.goto(`${baseUrl}/sign-in`);
+  await islandsReady(page);
+  await page.getByLabel('E-mail').fill(email);
+  await page.getByLabel('Password').fill(password);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  await page.waitForURL(/\/account/);
+}
+
+async function payWith(card: string) {
+  await page.getByLabel('Name on card').fill('Tom Adair');
+  await page.getByLabel('Card number').fill(card);
+  await page.getByLabel(/Expiry/).fill('12 / 34');
+  await page.getByLabel('Security code').fill('123');
+  await page.getByRole('button', { name: /Pay/ }).click();
+}
+
+beforeAll(async () => {
+  browser = await launchBrowser();
+  page = await browser.newPage({ viewport: { width: 1280, height: 900 } });
+  await signIn('tom@picture-desk.example', 'gallery-demo-2026');
+});
+afterAll(async () => browser?.close());
+
+describe('buying through the local Stripe fake', () => {
+  it('licenses a work for editorial use and pays with 4242', async () => {
+    await page.goto(`${baseUrl}/works/three-pears`);
+    await page.getByTestId('licence-editorial-digital').scrollIntoViewIfNeeded();
+    await page.getByTestId('licence-editorial-digital').getByRole('button', { name: /Add the Editorial · Digital licence/ }).click();
+    await page.goto(`${baseUrl}/cart`);
+    await page.getByTestId('to-checkout').click();
+    await page.waitForURL(/\/checkout$/);
+    await page.getByTestId('checkout-form').waitFor();
+    await page.getByLabel('Licensee’s name').fill('Picture Desk Ltd');
+    await page.getByLabel(/Organisation/).fill('Picture Desk');
+    await page.getByLabel(/Intended use/).fill('One online feature on autumn fruit');
+    await page.getByTestId('go-to-payment').click();
+    await page.waitForURL(/\/pay\/cs_/);
+    expect(await page.content()).toMatch(/£120\.00/);
+    await page.screenshot({ path: screenshotPath('20-pay-page'), fullPage: true });
+    await payWith('4242 4242 4242 4242'); // Stripe test card: succeeds (TRADE-FACTS §3.2)
+    await page.waitForURL(/\/checkout\/complete\?order=SM-/);
+    await expect.poll(() => page.getByTestId('order-status').innerText().catch(() => ''), { timeout: 15_000 }).toMatch(/Paid/);
+    expect(await page.getByTestId('licence-id').innerText()).toMatch(/Licence SML-/);
+    await page.screenshot({ path: screenshotPath('21-order-paid'), fullPage: true });
+    expect(await page.getByTestId('cart-badge').innerText()).toMatch(/0/);
+  });
+
+  it('sells a limited print and shows its edition number', async () => {
+    await page.goto(`${baseUrl}/works/moon-snail`);
+    await page.getByTestId('print-chooser').scrollIntoViewIfNeeded();
+    await page.locator('[data-testid="add-print"][data-ready="true"]').waitFor();
+    await page.getByTestId('print-chooser').getByRole('radio', { name: /16 × 20 in/ }).check();
+    await page.getByTestId('add-print').click();
+    await page.goto(`${baseUrl}/cart`);
+    await page.getByTestId('to-checkout').click();
+    await page.getByTestId('checkout-form').waitFor();
+    await page.getByLabel('Name', { exact: true }).fill('Tom Adair');
+    await page.getByLabel('Address', { exact: true }).fill('4 Harbour Row');
+    await page.getByLabel('Town or city').fill('Leith');
+    await page.getByLabel('Postcode').fill('EH6 6AA');
+    await page.getByLabel('Country').selectOption('GB');
+    await page.getByTestId('go-to-payment').click();
+    await page.waitForURL(/\/pay\/cs_/);
+    await payWith('4242 4242 4242 4242');
+    await page.waitForURL(/\/checkout\/complete/);
+    await expect.poll(() => page.getByTestId('order-status').innerText().catch(() => ''), { timeout: 15_000 }).toMatch(/Paid/);
+    // The first number of the 16×20 edition of 25 (demo seed) goes to the first buyer.
+    expect(await page.getByTestId('edition-numbers').innerText()).toMatch(/1\/25/);
+  });
+
+  it('leaves no paid order after a declined card', async () => {
+    await page.goto(`${baseUrl}/works/split-fig`);
+    await page.getByTestId('licence-editorial-print-run').getByRole('button', { name: /Add the Editorial · Print run licence/ }).click();
+    await page.goto(`${baseUrl}/checkout`);
+    await page.getByTestId('checkout-form').waitFor();
+    await page.getByLabel('Licensee’s name').fill('Picture Desk Ltd');
+    await page.getByLabel(/Intended use/).fill('A book on figs');
+    await page.getByTestId('go-to-payment').click();
+    await page.waitForURL(/\/pay\/cs_/);
+    await payWith('4000 0000 0000 0002'); // Stripe test card: declined (TRADE-FACTS §3.2)
+    await expect.poll(async () => (await page.content()).match(/declined/i) !== null).toBe(true);
+    expect(page.url()).toMatch(/\/pay\/cs_/);
+    // The pay page's way back names the order; the shop holds it unpaid.
+    const orderNumber = /SM-\d{6}-[A-Z0-9]{6}/.exec(await page.content())?.[0];
+    expect(orderNumber).toBeTruthy();
+    await page.goto(`${baseUrl}/account`);
+    const status = await page.evaluate(async (n) => (await (await fetch(`/api/account/orders/${n}`)).json()).order?.status, orderNumber!);
+    expect(status).toBe('pending_payment');
+    await page.screenshot({ path: screenshotPath('22-declined'), fullPage: true });
+  });
+});
