@@ -97,4 +97,26 @@ describe('buying through the local Stripe fake', () => {
     expect(status).toBe('pending_payment');
     await page.screenshot({ path: screenshotPath('22-declined'), fullPage: true });
   });
+
+  it('downloads the licensed file and opens the licence certificate from the account', async () => {
+    await page.goto(`${baseUrl}/account`);
+    const order = page.getByTestId('account-order').filter({ hasText: 'Three Pears' });
+    await order.waitFor();
+    const [download] = await Promise.all([page.waitForEvent('download'), order.getByTestId('download-link').click()]);
+    expect(download.suggestedFilename()).toMatch(/^three-pears-SML-.*\.jpg$/);
+    const file = await download.path();
+    const fs = await import('node:fs');
+    const bytes = fs.readFileSync(file!);
+    expect([...bytes.subarray(0, 3)]).toEqual([0xff, 0xd8, 0xff]); // JPEG magic bytes
+    expect(bytes.length).toBeGreaterThan(1_000_000); // full resolution, not a preview
+    const pdf = await page.evaluate(async (href) => {
+      const r = await fetch(href);
+      return { status: r.status, type: r.headers.get('content-type'), head: new TextDecoder().decode((await r.arrayBuffer()).slice(0, 5)) };
+    }, (await order.getByTestId('licence-certificate').getAttribute('href'))!);
+    expect(pdf).toEqual({ status: 200, type: 'application/pdf', head: '%PDF-' });
+    await page.screenshot({ path: screenshotPath('23-account'), fullPage: true });
+    const checkHref = (await order.getByRole('link', { name: 'Check page' }).getAttribute('href'))!;
+    await page.goto(`${baseUrl}${checkHref}`);
+    expect(await page.getByTestId('licence-state').innerText()).toBe('Valid');
+  });
 });

@@ -5,7 +5,15 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import Stripe from 'stripe';
 import type { APIContext } from 'astro';
 import { POST as webhook } from '~/pages/api/stripe/webhook';
-import { resetConfigForTests } from '~/lib/server/config';
+import fs from 'node:fs';
+import sharp from 'sharp';
+import exifReader from 'exif-reader';
+import { config, resetConfigForTests } from '~/lib/server/config';
+import { downloadToken } from '~/lib/server/download-links';
+import { GET as download } from '~/pages/api/account/downloads/[token]';
+import { GET as licencePdf } from '~/pages/api/account/licences/[id]/certificate';
+import { GET as printPdf } from '~/pages/api/account/prints/[serial]/certificate';
+import { downloadLinkFor, publicLicenceCheck } from '~/lib/server/deliveries';
 import { db } from '~/lib/server/db';
 import { startCheckout, CheckoutError } from '~/lib/server/checkout';
 import { DownloadGrant, EditionNumber, Licence, Order, ShippingZone } from '~/lib/server/models';
@@ -62,7 +70,9 @@ afterAll(async () => {
 });
 
 async function db_setup() {
-  const work = await insertWork('glass', 6000, 4000);
+  const work = await insertWork('glass', 6000, 4000); // the stored original below is small; grading reads these pixel sizes
+  fs.mkdirSync(config().originalsDir, { recursive: true });
+  await sharp({ create: { width: 600, height: 400, channels: 3, background: '#6a4b3a' } }).jpeg().toFile(path.join(config().originalsDir, 'glass.jpg'));
   const tier = await LicenceTier.create({ slug: 'ed', name: 'Editorial · Digital', use: 'editorial', summary: '', terms: 'One online feature.', media: 'web', cap: 500000, capUnit: 'page views', territory: 'Worldwide', termMonths: 24, defaultPrice: 12000 });
   const size = await PrintSize.create({ slug: '16x20', label: '16 × 20 in', family: 'inch', unit: 'in', width: 16, height: 20, basePrice: 18000 });
   const paper = await Paper.create({ slug: 'cotton', name: 'Cotton', surface: 'matte', weightGsm: 310, surchargeBp: 0, description: '' });
@@ -180,3 +190,67 @@ describe('checkout through the local Stripe fake', () => {
     expect(numbers).toEqual([1, 2, 3]);
   });
 });
+
+describe('delivery of what was bought', () => {
+  const ctx = (params: Record<string, string>, user: SessionUser | null = buyer) => ({ params, locals: { user, session: null } }) as unknown as APIContext;
+  const stranger: SessionUser = { ...buyer, id: 'racer-0', email: 'racer0@example.com' };
+
+  it('streams the licensed file with the rights written in, through a signed, counted link', async () => {
+    const licence = (await Licence.findOne({ where: { userId: buyer.id } }))!;
+    const link = (await downloadLinkFor(licence.id, buyer.id))!;
+    expect(link.left).toBe(5);
+    const token = link.url.split('/').pop()!;
+    const response = await download(ctx({ token }));
+    expect(response.status).toBe(200);
+    expect(response.headers.get('content-disposition')).toMatch(/attachment; filename="glass-SML-/);
+    expect(response.headers.get('content-disposition')).not.toMatch(/originals/);
+    const file = Buffer.from(await response.arrayBuffer());
+    const meta = await sharp(file).metadata();
+    expect([meta.width, meta.height]).toEqual([600, 400]);
+    // EXIF Artist 0x013B (CIPA DC-008), read back with an independent reader
+    expect(exifReader(meta.exif!).Image?.Artist).toBe('Test Photographer');
+    // XMP: the PLUS licence ID and the check page as xmpRights:WebStatement (IPTC/PLUS, TRADE-FACTS §4.1)
+    const xmp = meta.xmp!.toString('utf8');
+    expect(xmp).toContain(licence.id);
+    expect(xmp).toMatch(new RegExp(`WebStatement[^]*?/licences/${licence.id}`));
+
+    // a buyer who gives up half way does not bring the server down
+    const abandoned = await download(ctx({ token }));
+    await abandoned.body!.cancel();
+
+    // another person's link, a tampered link, an expired link
+    expect((await download(ctx({ token }, stranger))).status).toBe(404);
+    expect((await download(ctx({ token: token.replace(/.$/, (c) => (c === 'A' ? 'B' : 'A')) }))).status).toBe(404);
+    const grantId = Number(token.split('.')[0]);
+    expect((await download(ctx({ token: downloadToken(grantId, new Date(Date.now() - 1000)) }))).status).toBe(410);
+
+    // the link allows five downloads in all (the abandoned one counted)
+    for (let i = 3; i <= 5; i++) {
+      const again = await download(ctx({ token }));
+      expect(again.status).toBe(200);
+      await again.arrayBuffer();
+    }
+    const sixth = await download(ctx({ token }));
+    expect(sixth.status).toBe(410);
+    expect((await sixth.json()).error.code).toBe('link_used_up');
+    // the temporary copies made for streaming are gone once each download ends
+    await expect.poll(() => fs.readdirSync(config().incomingDir).filter((f) => f.startsWith('download-'))).toEqual([]);
+  });
+
+  it('serves certificates to their owner only, and a revoked licence stops its downloads', async () => {
+    const licence = (await Licence.findOne({ where: { userId: buyer.id } }))!;
+    const pdf = await licencePdf(ctx({ id: licence.id }));
+    expect(pdf.status).toBe(200);
+    expect(Buffer.from(await pdf.arrayBuffer()).subarray(0, 5).toString()).toBe('%PDF-');
+    expect((await licencePdf(ctx({ id: licence.id }, stranger))).status).toBe(404);
+    const sold = (await EditionNumber.findOne({ where: { state: 'sold' } }))!;
+    expect((await printPdf(ctx({ serial: sold.certificateSerial! }))).status).toBe(200);
+    expect((await printPdf(ctx({ serial: sold.certificateSerial! }, stranger))).status).toBe(404);
+
+    expect((await publicLicenceCheck(licence.id))?.state).toBe('valid');
+    await licence.update({ status: 'revoked' });
+    expect((await publicLicenceCheck(licence.id))).toMatchObject({ state: 'revoked', organisation: 'Picture Desk', workTitle: 'glass' });
+    expect(await downloadLinkFor(licence.id, buyer.id)).toBeNull();
+  });
+});
+

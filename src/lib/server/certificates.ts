@@ -81,11 +81,11 @@ const year = (label: string) =>
   z
     .number({ error: `${label} is missing.` })
     .int(`${label} must be a whole year.`)
-    .min(1826, `${label} is before the earliest surviving photograph (1826).`)
+    .min(1826, `${label} is not a plausible year.`)
     .max(9999, `${label} is not a plausible year.`);
 
 const positiveInt = (label: string) => z.number({ error: `${label} is missing.` }).int(`${label} must be a whole number.`).positive(`${label} must be at least 1.`);
-const positiveLength = (label: string) => z.number({ error: `${label} is missing.` }).positive(`${label} must be greater than 0.`).finite();
+const positiveLength = (label: string) => z.number({ error: `${label} is missing.` }).positive(`${label} must be greater than 0.`);
 
 /** A calendar day, given as "YYYY-MM-DD" or a Date (read in UTC); parsed to "YYYY-MM-DD". */
 const calendarDay = (label: string) =>

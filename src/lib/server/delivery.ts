@@ -36,7 +36,7 @@ export const rightsInfoSchema = z
     /** e.g. "© 2025 Zoë Ōkubo" (dc:rights, EXIF Copyright). */
     copyrightNotice: text('Copyright notice', 300),
     licenceId: text('Licence ID', 64).regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'Licence ID may hold only letters, digits, dots, hyphens and underscores.'),
-    licenseeName: text('Licensee name', 200),
+    licenseeName: text('Licensee name', 300),
     startsOn: calendarDay('Start date'),
     /** Last day of the licence; null when it has no end. */
     endsOn: calendarDay('End date').nullable(),
