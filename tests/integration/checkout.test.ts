@@ -76,7 +76,7 @@ async function db_setup() {
   const tier = await LicenceTier.create({ slug: 'ed', name: 'Editorial · Digital', use: 'editorial', summary: '', terms: 'One online feature.', media: 'web', cap: 500000, capUnit: 'page views', territory: 'Worldwide', termMonths: 24, defaultPrice: 12000 });
   const size = await PrintSize.create({ slug: '16x20', label: '16 × 20 in', family: 'inch', unit: 'in', width: 16, height: 20, basePrice: 18000 });
   const paper = await Paper.create({ slug: 'cotton', name: 'Cotton', surface: 'matte', weightGsm: 310, surchargeBp: 0, description: '' });
-  const edition = await Edition.create({ workId: work.id, printSizeId: size.id, kind: 'limited', total: 3, artistProofs: 0 });
+  const edition = await Edition.create({ workId: work.id, printSizeId: size.id, kind: 'limited', total: 4, artistProofs: 0 });
   const offer = await PrintOffer.create({ workId: work.id, printSizeId: size.id, paperId: paper.id, editionId: edition.id, priceOverride: null });
   await ShippingZone.create({ name: 'UK', countries: ['GB'], firstPrint: 900, eachFurtherPrint: 300 });
   Object.assign(ids, { work: work.id, tier: tier.id, offer: offer.id, edition: edition.id });
@@ -176,7 +176,7 @@ describe('checkout through the local Stripe fake', () => {
   });
 
   it('never sells more numbers than the edition has, under concurrency', async () => {
-    // One of three is sold above; twenty buyers race for the last two.
+    // One of four is sold above; twenty buyers race for the last three.
     const attempts = await Promise.allSettled(
       Array.from({ length: 20 }, (_, i) =>
         startCheckout({ ...buyer, id: `racer-${i}`, email: `racer${i}@example.com` }, { lines: [{ kind: 'print', offerId: ids.offer!, mode: 'fill', quantity: 1 }], shipping: address }, 'http://localhost:4321'),
@@ -184,10 +184,44 @@ describe('checkout through the local Stripe fake', () => {
     );
     const won = attempts.filter((a) => a.status === 'fulfilled');
     const lost = attempts.filter((a): a is PromiseRejectedResult => a.status === 'rejected');
-    expect(won).toHaveLength(2);
+    expect(won).toHaveLength(3);
     expect(lost.every((l) => l.reason instanceof CheckoutError && l.reason.code === 'sold_out')).toBe(true);
     const numbers = (await EditionNumber.findAll({ where: { editionId: ids.edition } })).map((n) => n.number).sort();
-    expect(numbers).toEqual([1, 2, 3]);
+    expect(numbers).toEqual([1, 2, 3, 4]);
+    expect(new Set(numbers).size).toBe(numbers.length);
+  });
+
+  it('refunds a payment that arrives after its lapsed reservation was taken by someone else', async () => {
+    // Free the three racing reservations, as their sessions expiring would.
+    await EditionNumber.destroy({ where: { state: 'reserved' } });
+    const late = await startCheckout({ ...buyer, id: 'racer-1', email: 'racer1@example.com' }, { lines: [{ kind: 'print', offerId: ids.offer!, mode: 'fill', quantity: 1 }], shipping: address }, 'http://localhost:4321');
+    // Its hold lapses; three other buyers take and pay for the last three numbers meanwhile.
+    await EditionNumber.update({ reservedUntil: new Date(Date.now() - 60_000) }, { where: { state: 'reserved' } });
+    for (const i of [2, 3, 4]) {
+      const other = await startCheckout({ ...buyer, id: `racer-${i}`, email: `racer${i}@example.com` }, { lines: [{ kind: 'print', offerId: ids.offer!, mode: 'fill', quantity: 1 }], shipping: address }, 'http://localhost:4321');
+      expect((await pay(other.url, '4242 4242 4242 4242')).status).toBe(303);
+      await expect.poll(async () => (await orderNamed(other.orderNumber)).status, { timeout: 5000 }).toBe('paid');
+    }
+    // Edition full (4 of 4 sold); now the late buyer pays.
+    expect((await pay(late.url, '4242 4242 4242 4242')).status).toBe(303);
+    await expect.poll(async () => (await orderNamed(late.orderNumber)).status, { timeout: 5000 }).toBe('refunded');
+    expect((await orderNamed(late.orderNumber)).note).toMatch(/sold out/);
+    await expect.poll(() => fake.events().some((e) => e.type === 'charge.refunded'), { timeout: 5000 }).toBe(true);
+    expect((await EditionNumber.findAll({ where: { editionId: ids.edition, state: 'sold' } })).length).toBe(4);
+    await expect.poll(async () => (await listMail(catcherUrl, 'racer1@example.com')).some((m) => /refunded/.test(m.subject)), { timeout: 5000 }).toBe(true);
+  });
+
+  it('ignores an expiry that arrives after the payment (events out of order)', async () => {
+    const paidOrder = (await Order.findOne({ where: { status: 'paid', userId: buyer.id } }))!;
+    const payload = JSON.stringify({
+      id: 'evt_late_expiry', object: 'event', type: 'checkout.session.expired', created: Math.floor(Date.now() / 1000),
+      data: { object: { id: paidOrder.stripeSessionId, object: 'checkout.session', metadata: { order_number: paidOrder.number } } },
+    });
+    const header = Stripe.webhooks.generateTestHeaderString({ payload, secret: SECRET });
+    const response = await webhook({ request: new Request('http://x/', { method: 'POST', headers: { 'stripe-signature': header }, body: payload }) } as APIContext);
+    expect(response.status).toBe(200);
+    expect((await response.json()).outcome).toBe('ignored');
+    expect((await orderNamed(paidOrder.number)).status).toBe('paid');
   });
 });
 
