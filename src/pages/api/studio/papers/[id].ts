@@ -1,38 +1,6 @@
-import type { APIRoute } from 'astro';
 import { paperPatch } from '~/lib/settings-schemas';
-import { requireArea } from '~/lib/server/guard';
-import { jsonError, readJson } from '~/lib/server/http';
-import { deletePaper, invalidInput, parseId, settingsErrorResponse, updatePaper } from '~/lib/server/settings';
+import { itemRoutes } from '~/lib/server/studio-collection-routes';
+import { deletePaper, updatePaper } from '~/lib/server/settings';
 
-const noStore = { 'Cache-Control': 'no-store' };
-const notFound = () => jsonError(404, 'not_found', 'No such paper.');
-
-/** Changes some fields of a paper; the result must pass the whole schema. */
-export const PATCH = (async ({ params, request, locals }) => {
-  const auth = requireArea(locals, 'studio');
-  if (auth instanceof Response) return auth;
-  const body = await readJson(request);
-  if (!body.ok) return body.response;
-  const parsed = paperPatch.safeParse(body.value);
-  if (!parsed.success) return invalidInput(parsed.error, 'invalid_paper');
-  const id = parseId(params.id);
-  if (id == null) return notFound();
-  try {
-    return Response.json({ paper: await updatePaper(id, parsed.data) }, { headers: noStore });
-  } catch (error) {
-    return settingsErrorResponse(error);
-  }
-}) satisfies APIRoute;
-
-/** Deletes a paper, or sets it inactive when anything refers to it (the answer says which, and why). */
-export const DELETE = (async ({ params, locals }) => {
-  const auth = requireArea(locals, 'studio');
-  if (auth instanceof Response) return auth;
-  const id = parseId(params.id);
-  if (id == null) return notFound();
-  try {
-    return Response.json(await deletePaper(id), { headers: noStore });
-  } catch (error) {
-    return settingsErrorResponse(error);
-  }
-}) satisfies APIRoute;
+/** PATCH changes some fields (the result must pass the whole schema); DELETE removes it, or sets it inactive when anything refers to it. */
+export const { PATCH, DELETE } = itemRoutes({ key: 'paper', code: 'invalid_paper', missing: 'No such paper.', patch: paperPatch, update: updatePaper, remove: deletePaper });

@@ -1,33 +1,6 @@
-import type { APIRoute } from 'astro';
 import { paperInput } from '~/lib/settings-schemas';
-import { requireArea } from '~/lib/server/guard';
-import { readJson } from '~/lib/server/http';
-import { createPaper, invalidInput, listPapers, settingsErrorResponse } from '~/lib/server/settings';
+import { collectionRoutes } from '~/lib/server/studio-collection-routes';
+import { createPaper, listPapers } from '~/lib/server/settings';
 
-const noStore = { 'Cache-Control': 'no-store' };
-
-/** Every paper, active or not, in the shop's order. */
-export const GET = (async ({ locals }) => {
-  const auth = requireArea(locals, 'studio');
-  if (auth instanceof Response) return auth;
-  try {
-    return Response.json({ papers: await listPapers() }, { headers: noStore });
-  } catch (error) {
-    return settingsErrorResponse(error);
-  }
-}) satisfies APIRoute;
-
-/** Adds a paper; its slug is made from its name. 409 when the name is taken. */
-export const POST = (async ({ request, locals }) => {
-  const auth = requireArea(locals, 'studio');
-  if (auth instanceof Response) return auth;
-  const body = await readJson(request);
-  if (!body.ok) return body.response;
-  const parsed = paperInput.safeParse(body.value);
-  if (!parsed.success) return invalidInput(parsed.error, 'invalid_paper');
-  try {
-    return Response.json({ paper: await createPaper(parsed.data) }, { status: 201, headers: noStore });
-  } catch (error) {
-    return settingsErrorResponse(error);
-  }
-}) satisfies APIRoute;
+/** Every paper (active or not) in the shop's order; POST adds one, its slug made from its name (409 when taken). */
+export const { GET, POST } = collectionRoutes({ key: 'paper', code: 'invalid_paper', input: paperInput, list: listPapers, create: createPaper });
