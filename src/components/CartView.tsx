@@ -1,4 +1,4 @@
-import { useState } from 'react';
+import { useEffect, useState } from 'react';
 import { useStore } from '@nanostores/react';
 import { QueryClient, QueryClientProvider, useQuery, keepPreviousData } from '@tanstack/react-query';
 import { cart, removeLine, setQuantity } from '~/stores/cart';
@@ -26,7 +26,21 @@ export default function CartView() {
   );
 }
 
+/** Back from the payment page without paying: close that payment so its held prints are released. */
+function useCancelledPayment(): string | null {
+  const [note, setNote] = useState<string | null>(null);
+  useEffect(() => {
+    const number = new URLSearchParams(window.location.search).get('cancelled');
+    if (!number || !/^SM-\d{6}-[A-Z0-9]{6}$/.test(number)) return;
+    void fetch(`/api/account/orders/${number}/cancel`, { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: '{}' });
+    setNote('Payment cancelled: nothing was charged, and your cart is as you left it.');
+    window.history.replaceState(null, '', '/cart');
+  }, []);
+  return note;
+}
+
 function CartLines() {
+  const cancelled = useCancelledPayment();
   const lines = useStore(cart);
   const quote = useQuery({
     queryKey: ['cart-quote', lines],
@@ -58,6 +72,7 @@ function CartLines() {
   const money = (amount: number) => formatMoney(amount, data.currency);
   return (
     <div className={quote.isFetching ? 'opacity-70 transition-opacity' : ''} aria-busy={quote.isFetching}>
+      {cancelled && <p role="status" className="mb-4 rounded-sm border border-rule bg-paper-raised p-3 text-sm" data-testid="payment-cancelled">{cancelled}</p>}
       <ul className="divide-y divide-rule border-y border-rule" role="list">
         {data.lines.map((line) => {
           const input = lines.find((l) => (l.kind === 'licence' ? `licence:${l.workId}:${l.tierId}` : `print:${l.offerId}:${l.mode}`) === line.key);

@@ -132,6 +132,7 @@ describe('checkout through the local Stripe fake', () => {
     expect(Math.round((grant.expiresAt.getTime() - (await orderNamed(started.orderNumber)).paidAt!.getTime()) / 86_400_000)).toBe(7);
     const receipt = await waitForMail(catcherUrl, buyer.email, /receipt/i);
     expect(receipt.text).toContain(started.orderNumber);
+    expect(receipt.text).toMatch(new RegExp(`${licence.id}: http://localhost:4321/api/account/downloads/\\d+\\.\\d+\\.`));
   });
 
   it('leaves no paid order after a declined card, and says why', async () => {
@@ -209,6 +210,22 @@ describe('checkout through the local Stripe fake', () => {
     await expect.poll(() => fake.events().some((e) => e.type === 'charge.refunded'), { timeout: 5000 }).toBe(true);
     expect((await EditionNumber.findAll({ where: { editionId: ids.edition, state: 'sold' } })).length).toBe(4);
     await expect.poll(async () => (await listMail(catcherUrl, 'racer1@example.com')).some((m) => /refunded/.test(m.subject)), { timeout: 5000 }).toBe(true);
+  });
+
+  it('releases the held numbers when the buyer leaves the payment page', async () => {
+    const { POST: cancel } = await import('~/pages/api/account/orders/[number]/cancel');
+    await EditionNumber.destroy({ where: { state: 'reserved' } });
+    // The edition above is sold out; test set-up only: one more number so a reservation can be made.
+    await Edition.update({ total: 5 }, { where: { id: ids.edition } });
+    const started = await startCheckout({ ...buyer, id: 'racer-5', email: 'racer5@example.com' }, { lines: [{ kind: 'print', offerId: ids.offer!, mode: 'fill', quantity: 1 }], shipping: address }, 'http://localhost:4321');
+    expect(await EditionNumber.count({ where: { state: 'reserved' } })).toBe(1);
+    const response = await cancel({ params: { number: started.orderNumber }, locals: { user: { ...buyer, id: 'racer-5', email: 'racer5@example.com' }, session: null } } as unknown as APIContext);
+    expect(response.status).toBe(202);
+    await expect.poll(async () => (await orderNamed(started.orderNumber)).status, { timeout: 5000 }).toBe('expired');
+    expect(await EditionNumber.count({ where: { state: 'reserved' } })).toBe(0);
+    // someone else's order cannot be cancelled
+    const other = await cancel({ params: { number: started.orderNumber }, locals: { user: buyer, session: null } } as unknown as APIContext);
+    expect(other.status).toBe(404);
   });
 
   it('ignores an expiry that arrives after the payment (events out of order)', async () => {

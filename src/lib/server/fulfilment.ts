@@ -5,6 +5,7 @@ import { sendMail } from './mail';
 import { Order, OrderLine, Licence, ShopSettings } from './models';
 import { formatMoney } from '../money';
 import { config } from './config';
+import { downloadLinkFor } from './deliveries';
 
 function escape(value: string): string {
   return value.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
@@ -48,6 +49,12 @@ async function mailFor(type: string, order: Order): Promise<void> {
     const lines = await OrderLine.findAll({ where: { orderId: order.id } });
     const licences = await Licence.findAll({ where: { orderLineId: lines.map((l) => l.id) } });
     const rows = lines.map((l) => `${(l.snapshot as { workTitle: string }).workTitle} — ${l.description} × ${l.quantity}: ${money(l.subtotal)}`);
+    // Each licence's file, by a signed link that works for the buyer once signed in.
+    const downloads: string[] = [];
+    for (const licence of licences) {
+      const link = order.userId ? await downloadLinkFor(licence.id, order.userId) : null;
+      if (link) downloads.push(`${licence.id}: ${origin}${link.url} (until ${link.expiresAt.toISOString().slice(0, 10)}, ${link.left} downloads)`);
+    }
     const text = [
       `Thank you. Order ${order.number} is paid.`,
       '',
@@ -55,10 +62,10 @@ async function mailFor(type: string, order: Order): Promise<void> {
       order.shipping ? `Shipping: ${money(order.shipping)}` : '',
       `Total: ${money(order.total)} (including VAT ${money(order.taxIncluded)})`,
       '',
-      licences.length ? `Licences: ${licences.map((l) => l.id).join(', ')}. Download the files and certificates from your account:` : 'Follow your prints from your account:',
+      ...(downloads.length ? ['Download the licensed files:', ...downloads, '', 'Certificates and fresh links are always in your account:'] : ['Follow your prints from your account:']),
       `${origin}/account`,
     ].filter((line, i, all) => line !== '' || all[i - 1] !== '').join('\n');
-    const html = `<p>Thank you. Order <strong>${escape(order.number)}</strong> is paid.</p><ul>${rows.map((r) => `<li>${escape(r)}</li>`).join('')}</ul><p>Total ${escape(money(order.total))} (including VAT ${escape(money(order.taxIncluded))}).</p><p><a href="${escape(origin)}/account">Your account</a></p>`;
+    const html = `<p>Thank you. Order <strong>${escape(order.number)}</strong> is paid.</p><ul>${rows.map((r) => `<li>${escape(r)}</li>`).join('')}</ul><p>Total ${escape(money(order.total))} (including VAT ${escape(money(order.taxIncluded))}).</p>${downloads.length ? `<p>Download the licensed files:</p><ul>${downloads.map((d) => `<li>${escape(d)}</li>`).join('')}</ul>` : ''}<p><a href="${escape(origin)}/account">Your account</a>: certificates and fresh download links.</p>`;
     await sendMail({ to: order.email, subject: `${shopName}: receipt for order ${order.number}`, text, html });
     return;
   }
