@@ -3,7 +3,6 @@ import crypto from 'node:crypto';
 import fs from 'node:fs';
 import fsp from 'node:fs/promises';
 import path from 'node:path';
-import { pipeline } from 'node:stream/promises';
 import type { Readable } from 'node:stream';
 import { QueryTypes } from 'sequelize';
 import { config } from './config';
@@ -79,12 +78,14 @@ export async function openDownload(token: string, userId: string): Promise<{ str
     licensorName: settings.photographerName,
     licensorUrl: config().publicOrigin,
   });
-  // sharp hands its output over in one piece, so the file is made on disk first and then streamed
+  // sharp hands stream output over in one piece, so the file is made on disk first and then streamed
   // from there in small chunks; the temporary copy is removed once the stream closes.
   await fsp.mkdir(config().incomingDir, { recursive: true });
   const temp = path.join(config().incomingDir, `download-${crypto.randomUUID()}.jpg`);
   try {
-    await pipeline(made, fs.createWriteStream(temp, { mode: 0o600 }));
+    // libvips writes the file itself, so the encoded JPEG never sits in JavaScript memory.
+    await made.toFile(temp);
+    await fsp.chmod(temp, 0o600);
   } catch (error) {
     await fsp.rm(temp, { force: true });
     throw error;

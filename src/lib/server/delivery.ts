@@ -4,8 +4,7 @@
  * EXIF Artist and Copyright (CIPA DC-008 tags 0x013B, 0x8298) and an XMP packet holding the IPTC
  * rights fields and the PLUS licence fields (TRADE-FACTS §4.1, §7.2).
  */
-import type { Readable } from 'node:stream';
-import sharp from 'sharp';
+import sharp, { type Sharp } from 'sharp';
 import { z } from 'zod';
 import { toAsciiText, toIsoDate } from '../certificate-text';
 import { config } from './config';
@@ -151,7 +150,7 @@ export interface LicensedFileOptions {
  * is done, and a stream piped into sharp is gathered whole before decoding. Handing sharp the path
  * keeps at least the input side out of JavaScript memory.
  */
-export function licensedFileStream(originalPath: string, rights: RightsInfo, options: LicensedFileOptions = {}): Readable {
+export function licensedFileStream(originalPath: string, rights: RightsInfo, options: LicensedFileOptions = {}): Sharp {
   const parsed = rightsInfoSchema.safeParse(rights);
   if (!parsed.success) {
     const issues = parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ');
