@@ -1,11 +1,11 @@
-import { useStore } from '@nanostores/react';
 import { addLicence, cart } from '~/stores/cart';
+import { useStoreAfterHydration } from './useAfterHydration';
 
 type Props = { workId: number; tierId: number; tierName: string };
 
 /** Puts one licence tier for one work in the cart; a licence is bought once per cart. */
 export default function AddLicence({ workId, tierId, tierName }: Props) {
-  const lines = useStore(cart);
+  const lines = useStoreAfterHydration(cart, []);
   const inCart = lines.some((l) => l.kind === 'licence' && l.workId === workId && l.tierId === tierId);
   return inCart ? (
     <a href="/cart" className="btn-quiet no-underline" data-testid={`licence-in-cart-${tierId}`}>In the cart · view</a>

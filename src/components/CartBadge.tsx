@@ -1,9 +1,9 @@
-import { useStore } from '@nanostores/react';
 import { cartCount } from '~/stores/cart';
+import { useStoreAfterHydration } from './useAfterHydration';
 
 /** The header's link to the cart, with the number of items kept in this browser. */
 export default function CartBadge() {
-  const count = useStore(cartCount);
+  const count = useStoreAfterHydration(cartCount, 0);
   return (
     <a href="/cart" className="inline-flex items-center gap-2 no-underline hover:text-ember" data-testid="cart-badge">
       <span>Cart</span>

@@ -4,6 +4,7 @@ import { islandsReady, launchBrowser, screenshotPath } from './browser';
 
 const baseUrl = inject('baseUrl');
 let browser: Browser;
+const pageErrors: string[] = [];
 let page: Page;
 
 async function signIn(email: string, password: string) {
@@ -26,6 +27,7 @@ async function payWith(card: string) {
 beforeAll(async () => {
   browser = await launchBrowser();
   page = await browser.newPage({ viewport: { width: 1280, height: 900 } });
+  page.on('pageerror', (error) => pageErrors.push(error.message));
   await signIn('tom@picture-desk.example', 'gallery-demo-2026');
 });
 afterAll(async () => browser?.close());
@@ -118,5 +120,9 @@ describe('buying through the local Stripe fake', () => {
     const checkHref = (await order.getByRole('link', { name: 'Check page' }).getAttribute('href'))!;
     await page.goto(`${baseUrl}${checkHref}`);
     expect(await page.getByTestId('licence-state').innerText()).toBe('Valid');
+  });
+
+  it('raised no script errors in the browser (hydration included)', () => {
+    expect(pageErrors).toEqual([]);
   });
 });

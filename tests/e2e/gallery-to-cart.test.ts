@@ -4,12 +4,14 @@ import { launchBrowser, screenshotPath } from './browser';
 
 const baseUrl = inject('baseUrl');
 let browser: Browser;
+const pageErrors: string[] = [];
 let page: Page;
 let chooserPrice = '';
 
 beforeAll(async () => {
   browser = await launchBrowser();
   page = await browser.newPage({ viewport: { width: 1440, height: 1000 } });
+  page.on('pageerror', (error) => pageErrors.push(error.message));
 });
 afterAll(async () => browser?.close());
 
@@ -116,5 +118,9 @@ describe('Gallery → work → print → cart', () => {
     const portrait = await page.$$eval('ul.justified > li .font-display', (els) => els.map((e) => e.textContent));
     expect(portrait.length).toBeGreaterThan(0);
     expect(portrait).not.toContain('Carafe, Amber Hour');
+  });
+
+  it('raised no script errors in the browser (hydration included)', () => {
+    expect(pageErrors).toEqual([]);
   });
 });
