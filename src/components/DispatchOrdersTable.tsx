@@ -1,4 +1,5 @@
 import { useEffect, useMemo, useState } from 'react';
+import SortableHeader from './SortableHeader';
 import { QueryClient, QueryClientProvider, keepPreviousData, useQuery } from '@tanstack/react-query';
 import { createColumnHelper, flexRender, getCoreRowModel, useReactTable, type PaginationState, type SortingState } from '@tanstack/react-table';
 import {
@@ -232,26 +233,9 @@ function OrdersTable({ initial, initialQuery }: Props) {
             <thead>
               {table.getHeaderGroups().map((group) => (
                 <tr key={group.id} className="border-b border-rule text-left">
-                  {group.headers.map((header) => {
-                    const sort = header.column.getIsSorted();
-                    return (
-                      <th
-                        key={header.id}
-                        scope="col"
-                        className={`px-2 py-2 font-medium text-ink-soft ${header.column.id === 'total' ? 'text-right' : ''}`}
-                        aria-sort={sort === 'asc' ? 'ascending' : sort === 'desc' ? 'descending' : undefined}
-                      >
-                        {header.column.getCanSort() ? (
-                          <button type="button" className="inline-flex items-center gap-1 hover:text-ink" onClick={header.column.getToggleSortingHandler()}>
-                            {flexRender(header.column.columnDef.header, header.getContext())}
-                            <span aria-hidden="true" className="w-3 text-ember">{sort === 'asc' ? '↑' : sort === 'desc' ? '↓' : ''}</span>
-                          </button>
-                        ) : (
-                          flexRender(header.column.columnDef.header, header.getContext())
-                        )}
-                      </th>
-                    );
-                  })}
+                  {group.headers.map((header) => (
+                    <SortableHeader key={header.id} header={header} sortable={header.column.getCanSort()} className={header.column.id === 'total' ? 'text-right' : ''} />
+                  ))}
                 </tr>
               ))}
             </thead>

@@ -1,4 +1,5 @@
 import { useEffect, useId, useMemo, useState } from 'react';
+import SortableHeader from './SortableHeader';
 import { QueryClient, QueryClientProvider, keepPreviousData, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import {
   createColumnHelper, flexRender, getCoreRowModel, useReactTable,
@@ -257,27 +258,9 @@ function WorksTable({ initial }: Props) {
             <thead>
               {table.getHeaderGroups().map((group) => (
                 <tr key={group.id} className="border-b border-rule text-left">
-                  {group.headers.map((header) => {
-                    const sort = header.column.getIsSorted();
-                    const canSort = header.column.getCanSort() && header.column.id !== 'select' && header.column.id !== 'thumb';
-                    return (
-                      <th
-                        key={header.id}
-                        scope="col"
-                        className="px-2 py-2 font-medium text-ink-soft"
-                        aria-sort={sort === 'asc' ? 'ascending' : sort === 'desc' ? 'descending' : undefined}
-                      >
-                        {canSort ? (
-                          <button type="button" className="inline-flex items-center gap-1 hover:text-ink" onClick={header.column.getToggleSortingHandler()}>
-                            {flexRender(header.column.columnDef.header, header.getContext())}
-                            <span aria-hidden="true" className="w-3 text-ember">{sort === 'asc' ? '↑' : sort === 'desc' ? '↓' : ''}</span>
-                          </button>
-                        ) : (
-                          flexRender(header.column.columnDef.header, header.getContext())
-                        )}
-                      </th>
-                    );
-                  })}
+                  {group.headers.map((header) => (
+                    <SortableHeader key={header.id} header={header} sortable={header.column.getCanSort() && header.column.id !== 'select' && header.column.id !== 'thumb'} />
+                  ))}
                 </tr>
               ))}
             </thead>
