@@ -71,7 +71,7 @@ export interface DispatchOrderList {
 
 export interface TimelineEntry {
   at: string;
-  kind: 'created' | 'paid' | 'event' | 'note';
+  kind: 'created' | 'paid' | 'event' | 'fulfilment' | 'note';
   label: string;
 }
 

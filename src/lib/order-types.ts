@@ -10,6 +10,8 @@ export interface OrderView {
   createdAt: string;
   paidAt: string | null;
   note: string | null;
+  /** Set once the prints have shipped. */
+  tracking: { carrier: string; number: string } | null;
   lines: {
     kind: 'licence' | 'print';
     workTitle: string;

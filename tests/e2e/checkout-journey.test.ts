@@ -3,6 +3,7 @@ import type { Browser, Page } from 'playwright-core';
 import { islandsReady, launchBrowser, screenshotPath } from './browser';
 
 const baseUrl = inject('baseUrl');
+const mailCatcherUrl = inject('mailCatcherUrl');
 let browser: Browser;
 const pageErrors: string[] = [];
 let page: Page;
@@ -120,6 +121,37 @@ describe('buying through the local Stripe fake', () => {
     const checkHref = (await order.getByRole('link', { name: 'Check page' }).getAttribute('href'))!;
     await page.goto(`${baseUrl}${checkHref}`);
     expect(await page.getByTestId('licence-state').innerText()).toBe('Valid');
+  });
+
+  it('lets the studio manager take the print through production and shipping, and the buyer sees the tracking', async () => {
+    const admin = await browser.newPage({ viewport: { width: 1280, height: 900 } });
+    admin.on('pageerror', (error) => pageErrors.push(error.message));
+    await admin.goto(`${baseUrl}/sign-in`);
+    await islandsReady(admin);
+    await admin.getByLabel('E-mail').fill('manager@kestrel-studio.example');
+    await admin.getByLabel('Password').fill('dispatch-demo-2026');
+    await admin.getByRole('button', { name: 'Sign in' }).click();
+    await admin.waitForURL(/\/account/);
+    await admin.goto(`${baseUrl}/dispatch/orders?kind=print`);
+    await admin.getByTestId('order-row').first().getByRole('link').first().click();
+    await admin.waitForURL(/\/dispatch\/orders\/SM-/);
+    await islandsReady(admin);
+    await admin.getByRole('button', { name: 'Start production' }).click();
+    await admin.getByRole('button', { name: 'Mark as shipped' }).waitFor();
+    await islandsReady(admin);
+    await admin.getByLabel('Tracking number').fill('RR123456784GB'); // wrong UPU S10 check digit
+    await admin.getByRole('button', { name: 'Mark as shipped' }).click();
+    await expect.poll(() => admin.getByRole('alert').innerText().catch(() => '')).toMatch(/not a Royal Mail/);
+    await admin.getByLabel('Tracking number').fill('RR123456785GB');
+    await admin.getByRole('button', { name: 'Mark as shipped' }).click();
+    await admin.getByRole('button', { name: 'Mark as delivered' }).waitFor();
+    await admin.screenshot({ path: screenshotPath('24-dispatch-order'), fullPage: true });
+    await admin.close();
+
+    await page.goto(`${baseUrl}/account`);
+    expect(await page.getByTestId('tracking').innerText()).toMatch(/Royal Mail.*RR123456785GB/);
+    const mails = await (await fetch(`${mailCatcherUrl}/messages?to=tom%40picture-desk.example`)).json() as { messages: { subject: string }[] };
+    expect(mails.messages.some((m) => /on their way/.test(m.subject))).toBe(true);
   });
 
   it('raised no script errors in the browser (hydration included)', () => {

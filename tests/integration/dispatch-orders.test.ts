@@ -8,7 +8,7 @@ import type { Role } from '~/lib/roles';
 import type { DispatchOrderDetail, DispatchOrderList } from '~/lib/dispatch-schemas';
 import type { OrderState } from '~/lib/order-states';
 import { GET as list } from '~/pages/api/dispatch/orders/index';
-import { GET as detail } from '~/pages/api/dispatch/orders/[number]';
+import { GET as detail } from '~/pages/api/dispatch/orders/[number]/index';
 import { insertSettings, insertWork, useTempDatabase, type TestData } from '../_fixtures';
 
 let data: TestData;

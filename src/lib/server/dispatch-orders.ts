@@ -97,6 +97,10 @@ export async function orderDetail(number: string): Promise<DispatchOrderDetail |
   const timeline: TimelineEntry[] = [{ at: order.createdAt.toISOString(), kind: 'created', label: 'Order placed' }];
   if (order.paidAt) timeline.push({ at: order.paidAt.toISOString(), kind: 'paid', label: 'Paid' });
   for (const e of events) timeline.push({ at: new Date(e.created_at).toISOString(), kind: 'event', label: eventLabel(e.type) });
+  if (order.productionAt) timeline.push({ at: order.productionAt.toISOString(), kind: 'fulfilment', label: 'In production' });
+  if (order.shippedAt) timeline.push({ at: order.shippedAt.toISOString(), kind: 'fulfilment', label: `Shipped${order.trackingNumber ? `, tracking ${order.trackingNumber}` : ''}` });
+  if (order.deliveredAt) timeline.push({ at: order.deliveredAt.toISOString(), kind: 'fulfilment', label: 'Delivered' });
+  // Stable for equal times: placed before paid before what followed.
   timeline.sort((a, b) => a.at.localeCompare(b.at));
   // The note has no time of its own; the order's last change is the best we know.
   if (order.note) timeline.push({ at: order.updatedAt.toISOString(), kind: 'note', label: order.note });

@@ -3,6 +3,7 @@ import { Op } from 'sequelize';
 import { EditionNumber, Licence, Order, OrderLine } from './models';
 import type { Licence as LicenceRow } from './models/Licence';
 import type { OrderView } from '../order-types';
+import { CARRIERS, type Carrier } from '../tracking';
 
 export type { OrderView };
 
@@ -39,6 +40,7 @@ async function viewOf(order: Order): Promise<OrderView> {
     createdAt: order.createdAt.toISOString(),
     paidAt: order.paidAt ? order.paidAt.toISOString() : null,
     note: order.note,
+    tracking: order.carrier && order.trackingNumber ? { carrier: CARRIERS[order.carrier as Carrier]?.name ?? order.carrier, number: order.trackingNumber } : null,
     lines: lines.map((l) => {
       const snap = l.snapshot as { workTitle: string; workSlug: string; edition?: { total: number | null } | null };
       return {

@@ -25,6 +25,11 @@ export class Order extends Model<InferAttributes<Order>, InferCreationAttributes
   declare paidAt: Date | null;
   declare expiresAt: Date | null;
   declare note: string | null;
+  declare productionAt: CreationOptional<Date | null>;
+  declare carrier: CreationOptional<string | null>;
+  declare trackingNumber: CreationOptional<string | null>;
+  declare shippedAt: CreationOptional<Date | null>;
+  declare deliveredAt: CreationOptional<Date | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
   declare lines?: NonAttribute<OrderLine[]>;
@@ -52,6 +57,11 @@ export class Order extends Model<InferAttributes<Order>, InferCreationAttributes
         paidAt: DataTypes.DATE,
         expiresAt: DataTypes.DATE,
         note: DataTypes.TEXT,
+        productionAt: DataTypes.DATE,
+        carrier: DataTypes.STRING,
+        trackingNumber: DataTypes.STRING,
+        shippedAt: DataTypes.DATE,
+        deliveredAt: DataTypes.DATE,
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },
