@@ -42,7 +42,7 @@ function Status({ number }: { number: string }) {
           <li key={i} className="py-4">
             <p className="font-display text-lg">{l.workTitle}</p>
             <p className="text-sm">{l.description}{l.quantity > 1 ? ` × ${l.quantity}` : ''} · {money(l.subtotal)}</p>
-            {l.editionNumbers.length > 0 && <p className="mt-1 text-sm" data-testid="edition-numbers">Edition number{l.editionNumbers.length > 1 ? 's' : ''}: {l.editionNumbers.join(', ')}</p>}
+            {l.editionNumbers.length > 0 && <p className="mt-1 text-sm" data-testid="edition-numbers">Edition number{l.editionNumbers.length > 1 ? 's' : ''}: {l.editionNumbers.map((n) => n.label).join(', ')}</p>}
             {l.licence && <p className="mt-1 text-sm" data-testid="licence-id">Licence {l.licence.id}, valid {l.licence.startsOn}{l.licence.endsOn ? ` to ${l.licence.endsOn}` : ', no end date'}</p>}
           </li>
         ))}

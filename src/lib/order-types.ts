@@ -20,7 +20,8 @@ export interface OrderView {
     detail: string;
     quantity: number;
     subtotal: number;
-    editionNumbers: string[];
+    /** Sold numbers as "n/N", each with its certificate of authenticity's serial. */
+    editionNumbers: { label: string; serial: string | null }[];
     licence: { id: string; status: string; startsOn: string; endsOn: string | null } | null;
   }[];
 }

@@ -2,14 +2,11 @@
 import type Stripe from 'stripe';
 import { stripe } from './stripe';
 import { sendMail } from './mail';
+import { escapeHtml as escape } from './mail-templates';
 import { Order, OrderLine, Licence, ShopSettings } from './models';
 import { formatMoney } from '../money';
 import { config } from './config';
 import { downloadLinkFor } from './deliveries';
-
-function escape(value: string): string {
-  return value.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!);
-}
 
 /** Runs after the event's transaction committed; a failure here is logged and retried by Stripe's next delivery only for refunds. */
 export async function afterStripeEvent(

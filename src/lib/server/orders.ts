@@ -51,7 +51,7 @@ async function viewOf(order: Order): Promise<OrderView> {
         detail: l.detail,
         quantity: l.quantity,
         subtotal: l.subtotal,
-        editionNumbers: numbers.filter((n) => n.orderLineId === l.id).map((n) => `${n.number}/${snap.edition?.total ?? '?'}`),
+        editionNumbers: numbers.filter((n) => n.orderLineId === l.id).map((n) => ({ label: `${n.number}/${snap.edition?.total ?? '?'}`, serial: n.certificateSerial })),
         licence: licenceView(licences.find((x) => x.orderLineId === l.id)),
       };
     }),
