@@ -26,6 +26,8 @@ export class Licence extends Model<InferAttributes<Licence>, InferCreationAttrib
   declare price: number;
   declare currency: string;
   declare status: CreationOptional<'active' | 'revoked'>;
+  declare revokedAt: CreationOptional<Date | null>;
+  declare revokedReason: CreationOptional<string | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -45,6 +47,8 @@ export class Licence extends Model<InferAttributes<Licence>, InferCreationAttrib
         price: DataTypes.INTEGER,
         currency: DataTypes.STRING(3),
         status: { type: DataTypes.STRING, defaultValue: 'active' },
+        revokedAt: DataTypes.DATE,
+        revokedReason: DataTypes.STRING,
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -16,6 +16,7 @@ export class Order extends Model<InferAttributes<Order>, InferCreationAttributes
   declare taxIncluded: number;
   declare total: number;
   declare refunded: CreationOptional<number>;
+  declare shippingRefunded: CreationOptional<number>;
   declare licenseeName: string | null;
   declare licenseeOrganisation: string | null;
   declare intendedUse: string | null;
@@ -48,6 +49,7 @@ export class Order extends Model<InferAttributes<Order>, InferCreationAttributes
         taxIncluded: DataTypes.INTEGER,
         total: DataTypes.INTEGER,
         refunded: { type: DataTypes.INTEGER, defaultValue: 0 },
+        shippingRefunded: { type: DataTypes.INTEGER, defaultValue: 0 },
         licenseeName: DataTypes.STRING,
         licenseeOrganisation: DataTypes.STRING,
         intendedUse: DataTypes.TEXT,

@@ -1,5 +1,17 @@
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize';
 
+/** The lab files made for a print line: paths under the data folder's lab/ directory, and what they hold. */
+export interface LabPackRecord {
+  file: string;
+  sheet: string;
+  format: 'tiff16' | 'jpeg';
+  widthPx: number;
+  heightPx: number;
+  ppi: number;
+  bytes: number;
+  preparedAt: string;
+}
+
 /** One bought thing, with its price and terms copied as they stood when the order was made. */
 export class OrderLine extends Model<InferAttributes<OrderLine>, InferCreationAttributes<OrderLine>> {
   declare id: CreationOptional<number>;
@@ -17,6 +29,9 @@ export class OrderLine extends Model<InferAttributes<OrderLine>, InferCreationAt
   declare detail: string;
   declare snapshot: Record<string, unknown>;
   declare status: CreationOptional<string>;
+  declare refunded: CreationOptional<number>;
+  declare labPack: CreationOptional<LabPackRecord | null>;
+  declare licenceQuoteId: CreationOptional<string | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -38,6 +53,9 @@ export class OrderLine extends Model<InferAttributes<OrderLine>, InferCreationAt
         detail: DataTypes.TEXT,
         snapshot: DataTypes.JSON,
         status: { type: DataTypes.STRING, defaultValue: 'open' },
+        refunded: { type: DataTypes.INTEGER, defaultValue: 0 },
+        labPack: DataTypes.JSON,
+        licenceQuoteId: DataTypes.STRING,
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -15,6 +15,8 @@ export class ShopSettings extends Model<InferAttributes<ShopSettings>, InferCrea
   declare limitedEditionPremiumBp: number;
   declare vatRateBp: CreationOptional<number>;
   declare reservationMinutes: CreationOptional<number>;
+  declare labPpi: CreationOptional<number>;
+  declare labFormat: CreationOptional<'tiff16' | 'jpeg'>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -34,6 +36,8 @@ export class ShopSettings extends Model<InferAttributes<ShopSettings>, InferCrea
         limitedEditionPremiumBp: DataTypes.INTEGER,
         vatRateBp: { type: DataTypes.INTEGER, defaultValue: 2000 },
         reservationMinutes: { type: DataTypes.INTEGER, defaultValue: 30 },
+        labPpi: { type: DataTypes.INTEGER, defaultValue: 300 },
+        labFormat: { type: DataTypes.STRING, defaultValue: 'tiff16' },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -14,8 +14,11 @@ import { EditionNumber } from './EditionNumber';
 import { Licence } from './Licence';
 import { DownloadGrant } from './DownloadGrant';
 import { ShippingZone } from './ShippingZone';
+import { Refund } from './Refund';
+import { LicenceQuote } from './LicenceQuote';
+import { AuditEvent } from './AuditEvent';
 
-export { ShopSettings, Series, Work, LicenceTier, WorkLicencePrice, PrintSize, Paper, Edition, PrintOffer, Order, OrderLine, EditionNumber, Licence, DownloadGrant, ShippingZone };
+export { ShopSettings, Series, Work, LicenceTier, WorkLicencePrice, PrintSize, Paper, Edition, PrintOffer, Order, OrderLine, EditionNumber, Licence, DownloadGrant, ShippingZone, Refund, LicenceQuote, AuditEvent };
 
 let initialisedFor: Sequelize | undefined;
 
@@ -23,7 +26,7 @@ let initialisedFor: Sequelize | undefined;
 export function initModels(sequelize: Sequelize): void {
   if (initialisedFor === sequelize) return;
   initialisedFor = sequelize;
-  for (const model of [ShopSettings, Series, Work, LicenceTier, WorkLicencePrice, PrintSize, Paper, Edition, PrintOffer, Order, OrderLine, EditionNumber, Licence, DownloadGrant, ShippingZone]) {
+  for (const model of [ShopSettings, Series, Work, LicenceTier, WorkLicencePrice, PrintSize, Paper, Edition, PrintOffer, Order, OrderLine, EditionNumber, Licence, DownloadGrant, ShippingZone, Refund, LicenceQuote, AuditEvent]) {
     model.initModel(sequelize);
   }
   Series.hasMany(Work, { as: 'works', foreignKey: 'seriesId' });
@@ -39,4 +42,6 @@ export function initModels(sequelize: Sequelize): void {
   PrintOffer.belongsTo(Edition, { as: 'edition', foreignKey: 'editionId' });
   Order.hasMany(OrderLine, { as: 'lines', foreignKey: 'orderId' });
   OrderLine.belongsTo(Order, { as: 'order', foreignKey: 'orderId' });
+  Order.hasMany(Refund, { as: 'refunds', foreignKey: 'orderId' });
+  LicenceQuote.belongsTo(Work, { as: 'work', foreignKey: 'workId' });
 }
