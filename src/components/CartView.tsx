@@ -3,7 +3,7 @@ import { useStore } from '@nanostores/react';
 import { QueryClient, QueryClientProvider, useQuery, keepPreviousData } from '@tanstack/react-query';
 import { cart, removeLine, setQuantity } from '~/stores/cart';
 import { formatMoney } from '~/lib/money';
-import { MAX_PRINT_QUANTITY, type CartLineInput, type CartQuote } from '~/lib/cart';
+import { lineKey, MAX_PRINT_QUANTITY, type CartLineInput, type CartQuote } from '~/lib/cart';
 
 async function fetchQuote(lines: CartLineInput[]): Promise<CartQuote> {
   const response = await fetch('/api/cart/quote', {
@@ -75,7 +75,7 @@ function CartLines() {
       {cancelled && <p role="status" className="mb-4 rounded-sm border border-rule bg-paper-raised p-3 text-sm" data-testid="payment-cancelled">{cancelled}</p>}
       <ul className="divide-y divide-rule border-y border-rule" role="list">
         {data.lines.map((line) => {
-          const input = lines.find((l) => (l.kind === 'licence' ? `licence:${l.workId}:${l.tierId}` : `print:${l.offerId}:${l.mode}`) === line.key);
+          const input = lines.find((l) => lineKey(l) === line.key);
           return (
             <li key={line.key} className="flex gap-4 py-5" data-testid="cart-line">
               {line.ok ? (
@@ -96,6 +96,7 @@ function CartLines() {
                           </select>
                         </label>
                       )}
+                      {input?.kind === 'quote' && <a href={`/account/quotes/${input.quoteId}`} className="text-ink-soft underline hover:text-ember">The quote</a>}
                       <button type="button" className="text-ink-soft underline hover:text-ember" onClick={() => removeLine(line.key)}>Remove</button>
                     </div>
                   </div>

@@ -52,7 +52,7 @@ function People({ selfId }: { selfId: string }) {
           <tbody className="divide-y divide-rule">
             {rows.map((p) => (
               <tr key={p.id} data-testid={`person-${p.email}`}>
-                <td className="py-2 pr-4">{p.name}{p.id === selfId && <span className="ml-2 text-xs text-ink-soft">(you)</span>}</td>
+                <td className="py-2 pr-4"><a href={`/dispatch/people/${encodeURIComponent(p.id)}`}>{p.name}</a>{p.id === selfId && <span className="ml-2 text-xs text-ink-soft">(you)</span>}</td>
                 <td className="pr-4">{p.email}{!p.emailVerified && <span className="ml-2 text-xs text-ink-soft">unconfirmed</span>}</td>
                 <td className="pr-4">
                   <select

@@ -4,6 +4,7 @@ import { zodResolver } from '@hookform/resolvers/zod';
 import { QueryClient, QueryClientProvider, useQuery, useQueryClient } from '@tanstack/react-query';
 import { formatMoney, minorUnitDigits } from '~/lib/money';
 import { isoA, pixelsAt, sizeLabel } from '~/lib/paper-sizes';
+import { LAB_FORMATS, LAB_FORMAT_LABEL, LAB_PPI_RANGE } from '~/lib/lab-pack';
 import {
   FAMILY_UNIT, currencyChangeWarning, isKnownCurrency, licenceTierInput, paperInput, printSizeInput, shopSettingsInput,
   type DeleteOutcome, type LicenceTierData, type LicenceTierInput, type LicenceTierView, type PaperData, type PaperInput,
@@ -289,6 +290,26 @@ function ShopForm(props: {
           </Field>
         </div>
         <p className="mt-3 text-xs text-ink-soft">Grades follow a save at once, on every work page and in every cart.</p>
+      </Section>
+
+      <Section
+        id="lab"
+        title="Lab files"
+        intro="What Dispatch hands the print lab for each print line: the picture cut to the buyer’s crop and made at exactly the print size at this resolution, in sRGB with its profile embedded."
+      >
+        <div className="grid gap-4 sm:grid-cols-4">
+          <Field label="Lab resolution" error={errors.labPpi?.message} hint={`ppi, ${LAB_PPI_RANGE.min}–${LAB_PPI_RANGE.max}; labs commonly print at 300.`}>
+            {(f) => <input {...number('labPpi')} {...ids(f)} type="number" inputMode="numeric" min={LAB_PPI_RANGE.min} max={LAB_PPI_RANGE.max} step={1} className="field" />}
+          </Field>
+          <Field label="File format" error={errors.labFormat?.message} hint="A 16-bit TIFF keeps the most tone; a JPEG is smaller." className="sm:col-span-2">
+            {(f) => (
+              <select {...register('labFormat')} {...ids(f)} className="field">
+                {LAB_FORMATS.map((format) => <option key={format} value={format}>{LAB_FORMAT_LABEL[format]}</option>)}
+              </select>
+            )}
+          </Field>
+        </div>
+        <p className="mt-3 text-xs text-ink-soft">Packs already prepared keep their files; prepare again to remake them with new settings.</p>
       </Section>
 
       <Section id="watermark" title="Watermark" intro="The words set across every preview in the Gallery. Originals are never marked or shown.">

@@ -17,7 +17,13 @@ export const printLineInput = z.object({
   quantity: z.number().int().min(1).max(MAX_PRINT_QUANTITY),
 });
 
-export const cartLineInput = z.discriminatedUnion('kind', [licenceLineInput, printLineInput]);
+/** A custom licence the studio quoted for this buyer: priced from the quote, for its owner only. */
+export const quoteLineInput = z.object({
+  kind: z.literal('quote'),
+  quoteId: z.string().regex(/^SMQ-[A-Z2-9-]{20,40}$/, { message: 'Not a quote id.' }),
+});
+
+export const cartLineInput = z.discriminatedUnion('kind', [licenceLineInput, printLineInput, quoteLineInput]);
 export const quoteRequest = z.object({
   lines: z
     .array(cartLineInput)
@@ -34,18 +40,20 @@ export const quoteRequest = z.object({
 
 export type LicenceLineInput = z.infer<typeof licenceLineInput>;
 export type PrintLineInput = z.infer<typeof printLineInput>;
+export type QuoteLineInput = z.infer<typeof quoteLineInput>;
 export type CartLineInput = z.infer<typeof cartLineInput>;
 export type QuoteRequest = z.infer<typeof quoteRequest>;
 
 /** The identity of a line: the same licence or the same print in the same mode is one line. */
 export function lineKey(line: CartLineInput): string {
+  if (line.kind === 'quote') return `quote:${line.quoteId}`;
   return line.kind === 'licence' ? `licence:${line.workId}:${line.tierId}` : `print:${line.offerId}:${line.mode}`;
 }
 
 export interface QuotedLineOk {
   key: string;
   ok: true;
-  kind: 'licence' | 'print';
+  kind: 'licence' | 'print' | 'quote';
   workSlug: string;
   workTitle: string;
   thumb: { src: string; width: number; height: number; alt: string };
@@ -58,7 +66,7 @@ export interface QuotedLineOk {
 export interface QuotedLineError {
   key: string;
   ok: false;
-  kind: 'licence' | 'print';
+  kind: 'licence' | 'print' | 'quote';
   error: string;
 }
 export type QuotedLine = QuotedLineOk | QuotedLineError;

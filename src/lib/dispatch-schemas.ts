@@ -1,6 +1,9 @@
 /** Dispatch → Orders: the list query (shared by the API, the page and the island) and what the server answers. */
 import { z } from 'zod';
 import type { ShippingAddress } from './checkout';
+import type { AuditView } from './audit-types';
+import type { RefundView } from './refund-schemas';
+import type { LabPackView } from './lab-pack';
 import { ORDER_KINDS, ORDER_STATES, type OrderKind, type OrderState } from './order-states';
 
 export const ORDER_SORTS = ['createdAt', 'total', 'number', 'status'] as const;
@@ -71,7 +74,7 @@ export interface DispatchOrderList {
 
 export interface TimelineEntry {
   at: string;
-  kind: 'created' | 'paid' | 'event' | 'fulfilment' | 'note';
+  kind: 'created' | 'paid' | 'event' | 'fulfilment' | 'refund' | 'mail' | 'note';
   label: string;
 }
 
@@ -87,8 +90,12 @@ export interface DispatchOrderDetail {
   taxIncluded: number;
   total: number;
   refunded: number;
+  shippingRefunded: number;
+  /** What can still be refunded: settled and pending refunds taken off. */
+  refundable: { order: number; shipping: number };
   createdAt: string;
   paidAt: string | null;
+  shippedAt: string | null;
   note: string | null;
   licensee: { name: string | null; organisation: string | null; intendedUse: string | null };
   shippingAddress: ShippingAddress | null;
@@ -103,7 +110,16 @@ export interface DispatchOrderDetail {
     unitPrice: number;
     subtotal: number;
     editionNumbers: { label: string; state: 'reserved' | 'sold'; certificateSerial: string | null }[];
-    licence: { id: string; status: string; startsOn: string; endsOn: string | null } | null;
+    licence: { id: string; status: string; startsOn: string; endsOn: string | null; revokedReason: string | null } | null;
+    refunded: number;
+    refundable: number;
+    /** Print lines: the lab pack if prepared, and why it cannot be prepared now (null when it can). */
+    lab: { pack: LabPackView | null; refusal: string | null } | null;
   }[];
   timeline: TimelineEntry[];
+  /** The fulfilment steps open now (none for licence-only orders or when every print was refunded). */
+  fulfilmentSteps: ('in_production' | 'shipped' | 'delivered')[];
+  refunds: RefundView[];
+  mails: { at: string; to: string; subject: string; error: string | null }[];
+  audit: AuditView[];
 }

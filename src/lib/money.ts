@@ -33,3 +33,28 @@ export function sumMinor(amounts: readonly number[]): number {
     return total + amount;
   }, 0);
 }
+
+/**
+ * Reads an amount typed in major units ("12.50", "12,50" is refused, "500" for yen) into minor units
+ * without binary floating point (19.99 × 100 is 1998.9999… in IEEE-754). Returns null for anything
+ * that is not a plain non-negative amount with at most the currency's number of decimals.
+ */
+export function parseMajorUnits(text: string, currency: string): number | null {
+  const digits = minorUnitDigits(currency);
+  const match = /^\s*(\d{1,12})(?:\.(\d+))?\s*$/.exec(text);
+  if (!match) return null;
+  const [, whole, fraction = ''] = match;
+  if (fraction.length > digits) return null;
+  const minor = Number(whole) * 10 ** digits + Number(fraction.padEnd(digits, '0') || '0');
+  return Number.isSafeInteger(minor) ? minor : null;
+}
+
+/** Minor units as a plain decimal string in major units, for form fields: (1250, 'GBP') → "12.50", (500, 'JPY') → "500". */
+export function toMajorUnitsText(amount: number, currency: string): string {
+  assertMinorUnits(amount);
+  const digits = minorUnitDigits(currency);
+  if (digits === 0) return String(amount);
+  const sign = amount < 0 ? '-' : '';
+  const abs = String(Math.abs(amount)).padStart(digits + 1, '0');
+  return `${sign}${abs.slice(0, -digits)}.${abs.slice(-digits)}`;
+}

@@ -4,6 +4,7 @@
  */
 import { z } from 'zod';
 import { formatMoney } from './money';
+import { LAB_FORMATS, LAB_PPI_RANGE, type LabFormat } from './lab-pack';
 
 /** Largest amount accepted, in minor units: eight digits, the payment provider's ceiling (TRADE-FACTS §3.3). */
 export const MAX_PRICE_MINOR = 99_999_999;
@@ -76,6 +77,9 @@ export const shopSettingsInput = z
       .max(VIEWING_FACTOR_RANGE.max, `Viewing distance must be at most ${VIEWING_FACTOR_RANGE.max} × the diagonal.`),
     watermarkText: text('Watermark text', 1, 80),
     limitedEditionPremiumBp: basisPoints('Limited-edition premium'),
+    /** The lab file's resolution and format; left out, the stored values stay. */
+    labPpi: int('Lab resolution', LAB_PPI_RANGE.min, LAB_PPI_RANGE.max).optional(),
+    labFormat: z.enum(LAB_FORMATS, { error: 'Choose a 16-bit TIFF or a maximum-quality JPEG.' }).optional(),
   })
   .superRefine((s, ctx) => {
     // Crisp ≥ target ≥ Fine ≥ floor ≥ Wall ≥ wall floor: each grade's threshold sits above the next one's.
@@ -189,7 +193,7 @@ export type PrintSizePatch = z.output<typeof printSizePatch>;
 export type LicenceTierView = LicenceTierData & { id: number; slug: string; position: number };
 export type PaperView = PaperData & { id: number; slug: string; position: number };
 export type PrintSizeView = PrintSizeData & { id: number; slug: string; position: number };
-export type ShopSettingsView = ShopSettingsData;
+export type ShopSettingsView = ShopSettingsData & { labPpi: number; labFormat: LabFormat };
 
 /** Progress of the background re-make of every work's previews after the watermark changes. */
 export interface RebuildProgress {

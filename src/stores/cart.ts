@@ -33,6 +33,14 @@ export function addLicence(workId: number, tierId: number): void {
   cart.set([...lines, line]);
 }
 
+/** Puts a quoted licence in the cart; the server prices it, and only for the account it was quoted to. */
+export function addQuote(quoteId: string): void {
+  const line: CartLineInput = { kind: 'quote', quoteId };
+  const lines = cart.get();
+  if (lines.some((l) => lineKey(l) === lineKey(line)) || lines.length >= MAX_CART_LINES) return;
+  cart.set([...lines, line]);
+}
+
 export function addPrint(offerId: number, mode: 'fill' | 'fit', quantity = 1): void {
   const line: CartLineInput = { kind: 'print', offerId, mode, quantity };
   const lines = cart.get();

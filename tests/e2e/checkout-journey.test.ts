@@ -136,6 +136,19 @@ describe('buying through the local Stripe fake', () => {
     await admin.getByTestId('order-row').first().getByRole('link').first().click();
     await admin.waitForURL(/\/dispatch\/orders\/SM-/);
     await islandsReady(admin);
+    // Production starts from the lab pack: prepare the print's file and job sheet first.
+    await admin.getByRole('button', { name: 'Start production' }).click();
+    await expect.poll(() => admin.getByRole('alert').innerText().catch(() => '')).toMatch(/Prepare the lab pack/);
+    await admin.getByRole('button', { name: 'Prepare for the lab' }).click();
+    await admin.getByTestId('lab-pack-ready').waitFor({ timeout: 120_000 });
+    // 16×20 in at 300 ppi = 4800×6000 px (TRADE-FACTS §2.2), turned to the picture when it is landscape
+    expect(await admin.getByTestId('lab-pack-facts').innerText()).toMatch(/(4,800 × 6,000|6,000 × 4,800) px at 300 ppi · 16-bit TIFF/);
+    const sheet = await admin.evaluate(async (href) => {
+      const r = await fetch(href);
+      return { status: r.status, type: r.headers.get('content-type'), head: new TextDecoder().decode((await r.arrayBuffer()).slice(0, 5)) };
+    }, (await admin.getByTestId('lab-pack-sheet').getAttribute('href'))!);
+    expect(sheet).toEqual({ status: 200, type: 'application/pdf', head: '%PDF-' });
+    await admin.screenshot({ path: screenshotPath('24a-lab-pack'), fullPage: true });
     await admin.getByRole('button', { name: 'Start production' }).click();
     await admin.getByRole('button', { name: 'Mark as shipped' }).waitFor();
     await islandsReady(admin);

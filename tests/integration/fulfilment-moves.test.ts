@@ -7,12 +7,14 @@ import type { SessionUser } from '~/lib/server/auth-types';
 import type { Role } from '~/lib/roles';
 import { insertSettings, insertWork, useTempDatabase, type TestData } from '../_fixtures';
 import { useMailCatcher, waitForMail } from '../_accounts';
+import { makeOffer, preparePacks, writeOriginal } from '../_lab';
 import type { MailCatcher } from '../../src/fakes/mail/catcher';
 
 let data: TestData;
 let catcher: MailCatcher;
 let catcherUrl: string;
 let workId: number;
+let offerId: number;
 
 const as = (role: Role): SessionUser => ({ id: `u-${role}`, email: `${role}@example.com`, name: role, role, emailVerified: true });
 const send = (number: string, body: unknown, user: SessionUser | null = as('admin')) =>
@@ -29,7 +31,8 @@ async function makeOrder(number: string, status: string, kinds: ('licence' | 'pr
     paidAt: new Date(), expiresAt: null, note: null,
   });
   for (const kind of kinds) {
-    await OrderLine.create({ orderId: order.id, kind, workId, licenceTierId: null, printOfferId: null, editionId: null, mode: null, quantity: 1, unitPrice: 1000, subtotal: 1000, description: kind, detail: '', snapshot: {} });
+    const print = kind === 'print';
+    await OrderLine.create({ orderId: order.id, kind, workId, licenceTierId: null, printOfferId: print ? offerId : null, editionId: null, mode: print ? 'fill' : null, quantity: 1, unitPrice: 1000, subtotal: 1000, description: kind, detail: '', snapshot: {} });
   }
 }
 
@@ -37,7 +40,11 @@ beforeAll(async () => {
   data = await useTempDatabase();
   ({ catcher, url: catcherUrl } = await useMailCatcher(data.dir));
   await insertSettings({ shopName: 'Test Shop' });
-  workId = (await insertWork('pear', 6000, 4000)).id;
+  const pear = await insertWork('pear', 6000, 4000);
+  workId = pear.id;
+  // A real original and offer, so the print line can be prepared for the lab before production.
+  await writeOriginal(pear);
+  offerId = (await makeOffer(workId, { slug: '8x10', label: '8 × 10 in', unit: 'in', width: 8, height: 10 })).id;
   await db().query("INSERT INTO users (id, name, email, email_verified, role, created_at, updated_at) VALUES ('collector', 'C', 'collector@example.com', 1, 'buyer', $1, $1)", { bind: [new Date().toISOString()] });
   await makeOrder('SM-261201-PRINTS', 'paid', ['print']);
   await makeOrder('SM-261201-LICENC', 'paid', ['licence']);
@@ -56,6 +63,10 @@ describe('moving a print order through fulfilment', () => {
 
   it('goes paid → in production → shipped (with a checked tracking number and a mail) → delivered', async () => {
     expect((await send('SM-261201-PRINTS', { to: 'shipped', carrier: 'royal-mail', trackingNumber: 'RR123456785GB' })).status).toBe(409); // not yet in production
+    const unprepared = await send('SM-261201-PRINTS', { to: 'in_production' });
+    expect(unprepared.status).toBe(409); // production starts from the lab packs
+    expect((await unprepared.json()).error.code).toBe('lab_pack_missing');
+    await preparePacks('SM-261201-PRINTS');
     expect((await send('SM-261201-PRINTS', { to: 'in_production' })).status).toBe(200);
     const bad = await send('SM-261201-PRINTS', { to: 'shipped', carrier: 'royal-mail', trackingNumber: 'RR123456784GB' }); // wrong S10 check digit
     expect(bad.status).toBe(422);

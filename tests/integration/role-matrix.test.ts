@@ -17,7 +17,7 @@ const METHODS = ['GET', 'POST', 'PUT', 'PATCH', 'DELETE', 'ALL'] as const;
 
 /** Routes open to everyone, each with the reason. */
 const PUBLIC_ROUTES: Record<string, string> = {
-  'cart/quote.ts': 'prices a cart for anyone browsing; reads only published catalogue data',
+  'cart/quote.ts': 'prices a cart for anyone browsing; reads only published catalogue data, and quoted licences only for the signed-in account that asked for them',
   'auth/[...all].ts': "better-auth's own endpoints; their guards are tested in accounts.test.ts",
   'stripe/webhook.ts': 'called by Stripe, not a person: authenticated by its signature (tested in checkout.test.ts)',
 };

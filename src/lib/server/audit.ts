@@ -6,6 +6,9 @@
  */
 import type { Transaction } from 'sequelize';
 import { AuditEvent } from './models';
+import type { AuditView } from '../audit-types';
+
+export type { AuditView };
 
 /** The actions the trail knows, with the words the order and account pages show. */
 export const AUDIT_ACTIONS = {
@@ -60,16 +63,6 @@ export async function recordAudit(actor: AuditActor | null, entry: AuditEntry, t
   );
 }
 
-export interface AuditView {
-  id: number;
-  at: string;
-  actor: string;
-  action: string;
-  label: string;
-  subject: string;
-  changes: { field: string; before: unknown; after: unknown }[];
-}
-
 /** Flattens before/after into the fields that differ, so the page lists "status: paid → shipped". */
 export function diffFields(before: Record<string, unknown> | null, after: Record<string, unknown> | null): AuditView['changes'] {
   const keys = [...new Set([...Object.keys(before ?? {}), ...Object.keys(after ?? {})])];
@@ -96,4 +89,8 @@ export async function auditForOrder(orderId: number): Promise<AuditView[]> {
 
 export async function auditForUser(userId: string): Promise<AuditView[]> {
   return (await AuditEvent.findAll({ where: { userId }, order: [['createdAt', 'DESC'], ['id', 'DESC']], limit: 200 })).map(view);
+}
+
+export async function auditByActor(actorId: string): Promise<AuditView[]> {
+  return (await AuditEvent.findAll({ where: { actorId }, order: [['createdAt', 'DESC'], ['id', 'DESC']], limit: 200 })).map(view);
 }

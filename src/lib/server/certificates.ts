@@ -991,3 +991,9 @@ export async function authenticityCertificatePdf(data: AuthenticityCertificateDa
   sheet.finish();
   return doc.save();
 }
+
+// =============================================================================================
+// Shared with the lab job sheet (lab-sheet.ts), so every PDF the shop makes is set the same way.
+
+export { newDocument as newShopDocument, header as shopHeader, line as pdfLine, Sheet as ShopSheet, MARGIN as SHEET_MARGIN, SCALES as SHEET_SCALES, INK, INK_SOFT, RULE, EMBER };
+export type { TextStyle, Faces };

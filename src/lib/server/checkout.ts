@@ -9,11 +9,14 @@ import { db } from './db';
 import { config } from './config';
 import { stripe } from './stripe';
 import { quoteCart } from './quote';
-import { DownloadGrant, Edition, EditionNumber, Licence, LicenceTier, Order, OrderLine, PrintOffer, ShippingZone, ShopSettings } from './models';
+import { claimQuote, quoteClaimRefusal, quoteForCheckout } from './licence-quotes';
+import { DownloadGrant, Edition, EditionNumber, Licence, LicenceTier, Order, OrderLine, PrintOffer, ShippingZone, ShopSettings, type LicenceQuote } from './models';
 import type { LicenceTerms } from './models/Licence';
 import { freeEditionNumbers, licenceEndDate, shippingCost, vatIncluded, zoneFor, type CheckoutInput } from '../checkout';
 import type { QuotedLineOk } from '../cart';
 import type { SessionUser } from './auth-types';
+import { settleChargeRefunded, type SettledRefund } from './refunds';
+import { printSnapshotFor } from './lab-pack';
 
 export class CheckoutError extends Error {
   constructor(readonly status: number, readonly code: string, message: string, readonly details?: unknown) {
@@ -55,7 +58,7 @@ async function reserveNumbers(edition: Edition, orderLineId: number, count: numb
 export interface StartedCheckout { orderNumber: string; url: string }
 
 export async function startCheckout(user: SessionUser, input: CheckoutInput, origin: string): Promise<StartedCheckout> {
-  const quote = await quoteCart(input.lines);
+  const quote = await quoteCart(input.lines, user.id);
   const refused = quote.lines.filter((l) => !l.ok);
   if (refused.length) throw new CheckoutError(409, 'cart_changed', 'Some items can no longer be bought as they are. Review the cart.', { lines: quote.lines });
   const settings = (await ShopSettings.findByPk(1))!;
@@ -74,16 +77,32 @@ export async function startCheckout(user: SessionUser, input: CheckoutInput, ori
 
   const order = await db().transaction(async (transaction) => {
     await releaseExpiredReservations(transaction, now);
+    // Quoted licences are read again inside the transaction: one paid or expired since pricing is not sold.
+    const quotes = new Map<string, LicenceQuote>();
+    for (const line of input.lines.filter((l) => l.kind === 'quote')) {
+      const found = await quoteForCheckout(line.quoteId, user.id, quote.currency, transaction, now);
+      if (typeof found === 'string') throw new CheckoutError(409, 'quote_unavailable', found);
+      quotes.set(line.quoteId, found);
+    }
+    const quoted = [...quotes.values()][0];
     const order = await Order.create({
       number: newOrderNumber(now), userId: user.id, email: user.email, currency: quote.currency,
       subtotal: quote.subtotal, shipping, taxIncluded: vatIncluded(total, settings.vatRateBp), total,
-      licenseeName: input.licensee?.name ?? null, licenseeOrganisation: input.licensee?.organisation || null,
+      licenseeName: input.licensee?.name ?? quoted?.licenseeName ?? null, licenseeOrganisation: (input.licensee ? input.licensee.organisation : quoted?.licenseeOrganisation) || null,
       intendedUse: input.licensee?.intendedUse ?? null, shippingAddress: input.shipping ?? null,
       stripeSessionId: null, stripePaymentIntentId: null, paidAt: null, expiresAt: holdUntil, note: null,
     }, { transaction });
     for (const [index, line] of input.lines.entries()) {
       const q = priced[index]!;
-      if (line.kind === 'licence') {
+      if (line.kind === 'quote') {
+        // A quoted licence is a licence line with the quote's terms and no tier.
+        const row = quotes.get(line.quoteId)!;
+        await OrderLine.create({
+          orderId: order.id, kind: 'licence', workId: row.workId, licenceTierId: null, printOfferId: null, editionId: null, mode: null,
+          quantity: 1, unitPrice: q.unitPrice, subtotal: q.subtotal, description: q.description, detail: q.detail, licenceQuoteId: row.id,
+          snapshot: { workTitle: q.workTitle, workSlug: q.workSlug, terms: row.terms },
+        }, { transaction });
+      } else if (line.kind === 'licence') {
         const tier = (await LicenceTier.findByPk(line.tierId, { transaction }))!;
         const terms: LicenceTerms = { tierName: tier.name, use: tier.use, terms: tier.terms, media: tier.media, cap: tier.cap, capUnit: tier.capUnit, territory: tier.territory, termMonths: tier.termMonths };
         await OrderLine.create({
@@ -96,7 +115,11 @@ export async function startCheckout(user: SessionUser, input: CheckoutInput, ori
         const orderLine = await OrderLine.create({
           orderId: order.id, kind: 'print', workId: offer.workId, licenceTierId: null, printOfferId: offer.id, editionId: offer.editionId, mode: line.mode,
           quantity: line.quantity, unitPrice: q.unitPrice, subtotal: q.subtotal, description: q.description, detail: q.detail,
-          snapshot: { workTitle: q.workTitle, workSlug: q.workSlug, edition: offer.edition ? { kind: offer.edition.kind, total: offer.edition.total, artistProofs: offer.edition.artistProofs } : null },
+          snapshot: {
+            workTitle: q.workTitle, workSlug: q.workSlug, edition: offer.edition ? { kind: offer.edition.kind, total: offer.edition.total, artistProofs: offer.edition.artistProofs } : null,
+            // The size, paper and crop as the buyer saw them, so the lab makes what was bought.
+            print: await printSnapshotFor(offer.id, line.mode, transaction),
+          },
         }, { transaction });
         if (offer.edition?.kind === 'limited') {
           const numbers = await reserveNumbers(offer.edition, orderLine.id, line.quantity, holdUntil, transaction);
@@ -146,7 +169,7 @@ export type EventOutcome = 'handled' | 'duplicate' | 'ignored';
  * Applies one verified Stripe event. The event id is recorded in the same transaction as its effects,
  * so the same event delivered again changes nothing. Returns follow-up work (refunds, mail) to run after commit.
  */
-export async function applyStripeEvent(event: Stripe.Event): Promise<{ outcome: EventOutcome; orderNumber?: string; refund?: { paymentIntent: string; orderNumber: string; reason: string } }> {
+export async function applyStripeEvent(event: Stripe.Event): Promise<{ outcome: EventOutcome; orderNumber?: string; refund?: { paymentIntent: string; orderNumber: string; reason: string }; settledRefunds?: SettledRefund[] }> {
   const { downloadDays, downloadLimit } = config();
   return db().transaction(async (transaction) => {
     const [, inserted] = (await db().query('INSERT OR IGNORE INTO webhook_events (id, type, created_at) VALUES ($1, $2, $3)', {
@@ -168,6 +191,15 @@ export async function applyStripeEvent(event: Stripe.Event): Promise<{ outcome: 
         const paymentIntent = typeof session.payment_intent === 'string' ? session.payment_intent : session.payment_intent?.id ?? null;
         const lines = await OrderLine.findAll({ where: { orderId: order.id }, transaction });
         const paidAt = new Date(event.created * 1000);
+
+        // A quoted licence is sold once: a payment for a quote another order already paid is refunded, not issued twice.
+        for (const line of lines.filter((l) => l.licenceQuoteId)) {
+          const refusal = await quoteClaimRefusal(line.licenceQuoteId!, order, transaction);
+          if (!refusal) continue;
+          await order.update({ status: 'refunded', stripePaymentIntentId: paymentIntent, note: refusal }, { transaction });
+          await EditionNumber.destroy({ where: { orderLineId: { [Op.in]: lines.map((l) => l.id) } }, transaction });
+          return { outcome: 'handled' as const, orderNumber: order.number, refund: paymentIntent ? { paymentIntent, orderNumber: order.number, reason: 'quote already paid' } : undefined };
+        }
 
         // Each limited print keeps its reserved numbers; a reservation that lapsed is re-made if numbers remain.
         for (const line of lines.filter((l) => l.kind === 'print' && l.editionId)) {
@@ -192,9 +224,12 @@ export async function applyStripeEvent(event: Stripe.Event): Promise<{ outcome: 
         const startsOn = paidAt.toISOString().slice(0, 10);
         for (const line of lines.filter((l) => l.kind === 'licence')) {
           const terms = (line.snapshot as { terms: LicenceTerms }).terms;
+          // A quoted licence names the licensee the studio quoted for, and is marked paid by this order.
+          const quoted = line.licenceQuoteId ? await claimQuote(line.licenceQuoteId, order, transaction) : null;
           const licence = await Licence.create({
             id: newLicenceId(), orderLineId: line.id, workId: line.workId, userId: order.userId,
-            licenseeName: order.licenseeName ?? order.email, licenseeOrganisation: order.licenseeOrganisation, intendedUse: order.intendedUse,
+            licenseeName: quoted?.licenseeName ?? order.licenseeName ?? order.email, licenseeOrganisation: quoted ? quoted.licenseeOrganisation : order.licenseeOrganisation,
+            intendedUse: quoted ? quoted.request.message : order.intendedUse,
             terms, startsOn, endsOn: terms.termMonths ? licenceEndDate(startsOn, terms.termMonths) : null,
             price: line.unitPrice, currency: order.currency,
           }, { transaction });
@@ -219,6 +254,12 @@ export async function applyStripeEvent(event: Stripe.Event): Promise<{ outcome: 
         const reason = intent.last_payment_error?.message ?? 'The card was declined.';
         await order.update({ note: `Payment attempt failed: ${reason}` }, { transaction });
         return { outcome: 'handled' as const, orderNumber: order.number };
+      }
+      case 'charge.refunded': {
+        const result = await settleChargeRefunded(event.data.object, transaction);
+        if (!result) return { outcome: 'ignored' as const };
+        await db().query('UPDATE webhook_events SET order_id = (SELECT id FROM orders WHERE number = $1) WHERE id = $2', { bind: [result.orderNumber, event.id], transaction });
+        return { outcome: 'handled' as const, settledRefunds: result.settled };
       }
       default:
         return { outcome: 'ignored' as const };

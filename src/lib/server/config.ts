@@ -36,6 +36,8 @@ export interface ServerConfig {
   derivativesDir: string;
   /** Scratch space for uploads in flight, on the same disk so finished files are renamed, not copied. */
   incomingDir: string;
+  /** Print-ready files and job sheets made for the lab, one folder per order (private, like originals). */
+  labDir: string;
   publicOrigin: string;
   logSql: boolean;
   authSecret: string;
@@ -74,6 +76,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): ServerConfig {
     originalsDir: path.join(uploadsDir, 'originals'),
     derivativesDir: path.join(uploadsDir, 'derivatives'),
     incomingDir: path.join(uploadsDir, 'incoming'),
+    labDir: path.join(root, 'lab'),
     publicOrigin: e.PUBLIC_ORIGIN ?? 'http://localhost:4321',
     logSql: e.LOG_SQL === '1',
     authSecret: e.AUTH_SECRET ?? DEMO_AUTH_SECRET,

@@ -1,7 +1,12 @@
 /** Dispatch → Orders: every order, paged, sorted and filtered in SQL; and one order in full with its timeline. */
 import { Op, QueryTypes, literal, type Order as SequelizeOrder, type WhereOptions } from 'sequelize';
 import { db } from './db';
-import { EditionNumber, Licence, Order, OrderLine } from './models';
+import { EditionNumber, Licence, Order, OrderLine, Refund } from './models';
+import { auditForOrder } from './audit';
+import { refundsForOrder } from './refunds';
+import { labPackView } from './lab-pack';
+import { labRefusal } from '../lab-pack';
+import { formatMoney } from '../money';
 import { isOrderState, nextStates, orderKind, ORDER_STATES, type OrderState } from '../order-states';
 import type { DispatchOrderDetail, DispatchOrderList, DispatchOrdersQuery, TimelineEntry } from '../dispatch-schemas';
 
@@ -85,21 +90,41 @@ export async function orderDetail(number: string): Promise<DispatchOrderDetail |
   if (!order) return null;
   const lines = await OrderLine.findAll({ where: { orderId: order.id }, order: [['id', 'ASC']] });
   const ids = lines.map((l) => l.id);
-  const [numbers, licences, events] = await Promise.all([
+  const [numbers, licences, events, pendingRefunds, mails, audit] = await Promise.all([
     ids.length ? EditionNumber.findAll({ where: { orderLineId: ids }, order: [['number', 'ASC']] }) : [],
     ids.length ? Licence.findAll({ where: { orderLineId: ids } }) : [],
     db().query<{ id: string; type: string; created_at: string }>(
       'SELECT id, type, created_at FROM webhook_events WHERE order_id = $1 ORDER BY created_at ASC, id ASC',
       { bind: [order.id], type: QueryTypes.SELECT },
     ),
+    Refund.findAll({ where: { orderId: order.id, status: 'pending' } }),
+    db().query<{ recipient: string; subject: string; error: string | null; created_at: string }>(
+      'SELECT recipient, subject, error, created_at FROM order_mails WHERE order_id = $1 ORDER BY created_at ASC, id ASC',
+      { bind: [order.id], type: QueryTypes.SELECT },
+    ),
+    auditForOrder(order.id),
   ]);
+  const pendingOn = (lineId: number | null) =>
+    pendingRefunds.flatMap((r) => r.allocations).filter((a) => a.lineId === lineId).reduce((sum, a) => sum + a.amount, 0);
+  const lineLabel = (id: number) => {
+    const line = lines.find((l) => l.id === id);
+    return line ? `${(line.snapshot as { workTitle?: string }).workTitle ?? line.description} — ${line.description}` : `line ${id}`;
+  };
 
   const timeline: TimelineEntry[] = [{ at: order.createdAt.toISOString(), kind: 'created', label: 'Order placed' }];
-  if (order.paidAt) timeline.push({ at: order.paidAt.toISOString(), kind: 'paid', label: 'Paid' });
+  // The payment service stamps whole seconds, so "paid" can read a moment before "placed"; it never comes first.
+  if (order.paidAt) timeline.push({ at: new Date(Math.max(order.paidAt.getTime(), order.createdAt.getTime())).toISOString(), kind: 'paid', label: 'Paid' });
   for (const e of events) timeline.push({ at: new Date(e.created_at).toISOString(), kind: 'event', label: eventLabel(e.type) });
   if (order.productionAt) timeline.push({ at: order.productionAt.toISOString(), kind: 'fulfilment', label: 'In production' });
   if (order.shippedAt) timeline.push({ at: order.shippedAt.toISOString(), kind: 'fulfilment', label: `Shipped${order.trackingNumber ? `, tracking ${order.trackingNumber}` : ''}` });
   if (order.deliveredAt) timeline.push({ at: order.deliveredAt.toISOString(), kind: 'fulfilment', label: 'Delivered' });
+  const refunds = await refundsForOrder(order.id, lineLabel);
+  for (const r of refunds) {
+    timeline.push({ at: r.createdAt, kind: 'refund', label: `Refund of ${formatMoney(r.amount, r.currency)} requested${r.requestedBy ? ` by ${r.requestedBy}` : ''}: ${r.reason}` });
+    if (r.settledAt) timeline.push({ at: r.settledAt, kind: 'refund', label: `Refund of ${formatMoney(r.amount, r.currency)} settled` });
+    if (r.status === 'failed') timeline.push({ at: r.createdAt, kind: 'refund', label: `Refund of ${formatMoney(r.amount, r.currency)} refused: ${r.failure ?? 'no reason given'}` });
+  }
+  for (const m of mails) timeline.push({ at: new Date(m.created_at).toISOString(), kind: 'mail', label: `${m.error ? 'Mail failed' : 'Mailed'}: ${m.subject}` });
   // Stable for equal times: placed before paid before what followed.
   timeline.sort((a, b) => a.at.localeCompare(b.at));
   // The note has no time of its own; the order's last change is the best we know.
@@ -118,8 +143,14 @@ export async function orderDetail(number: string): Promise<DispatchOrderDetail |
     taxIncluded: order.taxIncluded,
     total: order.total,
     refunded: order.refunded,
+    shippingRefunded: order.shippingRefunded,
+    refundable: {
+      order: order.total - order.refunded - pendingRefunds.reduce((sum, r) => sum + r.amount, 0),
+      shipping: order.shipping - order.shippingRefunded - pendingOn(null),
+    },
     createdAt: order.createdAt.toISOString(),
     paidAt: order.paidAt ? order.paidAt.toISOString() : null,
+    shippedAt: order.shippedAt ? order.shippedAt.toISOString() : null,
     note: order.note,
     licensee: { name: order.licenseeName, organisation: order.licenseeOrganisation, intendedUse: order.intendedUse },
     shippingAddress: order.shippingAddress,
@@ -139,9 +170,27 @@ export async function orderDetail(number: string): Promise<DispatchOrderDetail |
         editionNumbers: numbers
           .filter((n) => n.orderLineId === l.id)
           .map((n) => ({ label: `${n.number}/${snap.edition?.total ?? '?'}`, state: n.state, certificateSerial: n.certificateSerial })),
-        licence: licence ? { id: licence.id, status: licence.status, startsOn: licence.startsOn, endsOn: licence.endsOn } : null,
+        licence: licence ? { id: licence.id, status: licence.status, startsOn: licence.startsOn, endsOn: licence.endsOn, revokedReason: licence.revokedReason } : null,
+        refunded: l.refunded,
+        refundable: l.subtotal - l.refunded - pendingOn(l.id),
+        lab: l.kind === 'print' ? { pack: labPackView(order.number, l.id, l.labPack ?? null), refusal: labRefusal(order.status, l)?.message ?? null } : null,
       };
     }),
     timeline,
+    fulfilmentSteps: fulfilmentSteps(status, order, lines),
+    refunds,
+    mails: mails.map((m) => ({ at: new Date(m.created_at).toISOString(), to: m.recipient, subject: m.subject, error: m.error })),
+    audit,
   };
+}
+
+/** Where a print order can go next in fulfilment; after a partial refund it goes on from where it was. */
+function fulfilmentSteps(status: OrderState, order: Order, lines: OrderLine[]): DispatchOrderDetail['fulfilmentSteps'] {
+  const livePrints = lines.filter((l) => l.kind === 'print' && l.refunded < l.subtotal);
+  if (livePrints.length === 0) return [];
+  const at = status === 'partly_refunded'
+    ? (order.shippedAt ? 'shipped' : order.productionAt ? 'in_production' : 'paid')
+    : status;
+  const next = { paid: 'in_production', in_production: 'shipped', shipped: 'delivered' } as const;
+  return at in next ? [next[at as keyof typeof next]] : [];
 }

@@ -7,12 +7,20 @@ import { Order, OrderLine, Licence, ShopSettings } from './models';
 import { formatMoney } from '../money';
 import { config } from './config';
 import { downloadLinkFor } from './deliveries';
+import { mailSettledRefund, type SettledRefund } from './refunds';
 
 /** Runs after the event's transaction committed; a failure here is logged and retried by Stripe's next delivery only for refunds. */
 export async function afterStripeEvent(
   event: Stripe.Event,
-  result: { orderNumber?: string; refund?: { paymentIntent: string; orderNumber: string; reason: string } },
+  result: { orderNumber?: string; refund?: { paymentIntent: string; orderNumber: string; reason: string }; settledRefunds?: SettledRefund[] },
 ): Promise<void> {
+  for (const settled of result.settledRefunds ?? []) {
+    try {
+      await mailSettledRefund(settled);
+    } catch (error) {
+      console.error(`refund mail for refund ${settled.refundId} failed`, error);
+    }
+  }
   if (result.refund) {
     await stripe().refunds.create(
       { payment_intent: result.refund.paymentIntent, reason: 'requested_by_customer', metadata: { order_number: result.refund.orderNumber, why: result.refund.reason } },
@@ -37,8 +45,9 @@ async function mailFor(type: string, order: Order): Promise<void> {
   if (type === 'checkout.session.completed' && order.status === 'refunded') {
     await sendMail({
       to: order.email,
+      orderId: order.id,
       subject: `${shopName}: your order ${order.number} was refunded`,
-      text: `Your payment for order ${order.number} arrived after the last print of its edition had been sold. You have been refunded ${money(order.total)} in full.\n\n${origin}/account`,
+      text: `${order.note ?? 'Your payment could not be turned into an order.'} You have been refunded ${money(order.total)} in full; nothing else is owed.\n\n${origin}/account`,
     });
     return;
   }
@@ -63,12 +72,13 @@ async function mailFor(type: string, order: Order): Promise<void> {
       `${origin}/account`,
     ].filter((line, i, all) => line !== '' || all[i - 1] !== '').join('\n');
     const html = `<p>Thank you. Order <strong>${escape(order.number)}</strong> is paid.</p><ul>${rows.map((r) => `<li>${escape(r)}</li>`).join('')}</ul><p>Total ${escape(money(order.total))} (including VAT ${escape(money(order.taxIncluded))}).</p>${downloads.length ? `<p>Download the licensed files:</p><ul>${downloads.map((d) => `<li>${escape(d)}</li>`).join('')}</ul>` : ''}<p><a href="${escape(origin)}/account">Your account</a>: certificates and fresh download links.</p>`;
-    await sendMail({ to: order.email, subject: `${shopName}: receipt for order ${order.number}`, text, html });
+    await sendMail({ to: order.email, orderId: order.id, subject: `${shopName}: receipt for order ${order.number}`, text, html });
     return;
   }
   if (type === 'payment_intent.payment_failed') {
     await sendMail({
       to: order.email,
+      orderId: order.id,
       subject: `${shopName}: the payment for order ${order.number} did not go through`,
       text: `${order.note ?? 'The card was declined.'}\n\nNothing was charged. You can try again from your cart: ${origin}/cart`,
     });

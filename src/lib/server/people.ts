@@ -2,6 +2,7 @@
 import { QueryTypes } from 'sequelize';
 import { auth } from './auth';
 import { db } from './db';
+import { recordAudit } from './audit';
 import { isRole, type Role } from '../roles';
 import type { PersonChange, PersonRow } from '../people-schemas';
 
@@ -34,7 +35,7 @@ export async function listPeople(): Promise<PersonRow[]> {
  * Applies an admin's change through better-auth's admin API (so its own checks run too).
  * An admin may not demote or disable themselves: the shop must never lock out its last manager.
  */
-export async function changePerson(adminId: string, userId: string, change: PersonChange, requestHeaders: Headers): Promise<PersonRow> {
+export async function changePerson(adminId: string, userId: string, change: PersonChange, requestHeaders: Headers, adminEmail = ''): Promise<PersonRow> {
   const people = await listPeople();
   const person = people.find((p) => p.id === userId);
   if (!person) throw new PeopleError(404, 'not_found', 'No such account.');
@@ -51,5 +52,17 @@ export async function changePerson(adminId: string, userId: string, change: Pers
   } else if (change.disabled === false && person.disabled) {
     await api.unbanUser({ body: { userId }, headers });
   }
-  return (await listPeople()).find((p) => p.id === userId)!;
+  const after = (await listPeople()).find((p) => p.id === userId)!;
+  // better-auth makes the change with its own writes; the trail records what it left behind.
+  const actor = { id: adminId, email: adminEmail };
+  if (after.role !== person.role) {
+    await recordAudit(actor, { action: 'role.change', subjectType: 'user', subjectId: userId, userId, before: { role: person.role }, after: { role: after.role } });
+  }
+  if (after.disabled !== person.disabled) {
+    await recordAudit(actor, {
+      action: after.disabled ? 'account.disable' : 'account.enable', subjectType: 'user', subjectId: userId, userId,
+      before: { disabled: person.disabled }, after: { disabled: after.disabled, ...(after.disabled && change.reason ? { reason: change.reason } : {}) },
+    });
+  }
+  return after;
 }

@@ -1,7 +1,9 @@
 /** Prices a cart from the database. The client's idea of a price is never read, only ids and choices. */
 import { Op } from 'sequelize';
 import { db } from './db';
-import { Edition, LicenceTier, Paper, PrintOffer, PrintSize, Work, WorkLicencePrice } from './models';
+import { Edition, LicenceQuote, LicenceTier, Paper, PrintOffer, PrintSize, Work, WorkLicencePrice } from './models';
+import { quoteRefusal } from './licence-quotes';
+import { termsSummary } from '../quote-schemas';
 import { getShop, licenceRuleOf, offerPrice, pictureOf } from './catalogue';
 import { lineKey, type CartLineInput, type CartQuote, type QuotedLine, type QuotedLineOk } from '../cart';
 import { licencePrice, lineSubtotal } from '../pricing';
@@ -19,11 +21,15 @@ function capText(cap: number | null, unit: string | null): string {
   return cap == null ? 'no cap' : `up to ${cap.toLocaleString('en-GB')} ${unit ?? ''}`.trim();
 }
 
-export async function quoteCart(lines: CartLineInput[]): Promise<CartQuote> {
+/** Prices the cart; quoted licence lines only for `userId`, the account that asked for them (null: signed out). */
+export async function quoteCart(lines: CartLineInput[], userId: string | null = null): Promise<CartQuote> {
   db();
   const shop = await getShop();
   const licenceLines = lines.filter((l) => l.kind === 'licence');
   const printLines = lines.filter((l) => l.kind === 'print');
+  const quoteLines = lines.filter((l) => l.kind === 'quote');
+  const quotes = quoteLines.length && userId ? await LicenceQuote.findAll({ where: { id: { [Op.in]: quoteLines.map((l) => l.quoteId) }, userId } }) : [];
+  const quoteById = new Map(quotes.map((q) => [q.id, q]));
 
   const offers = printLines.length
     ? await PrintOffer.findAll({
@@ -35,7 +41,7 @@ export async function quoteCart(lines: CartLineInput[]): Promise<CartQuote> {
         ],
       })
     : [];
-  const workIds = [...new Set([...licenceLines.map((l) => l.workId), ...offers.map((o) => o.workId)])];
+  const workIds = [...new Set([...licenceLines.map((l) => l.workId), ...offers.map((o) => o.workId), ...quotes.map((q) => q.workId)])];
   const [works, tiers, rules] = await Promise.all([
     Work.findAll({ where: { id: { [Op.in]: workIds } } }),
     licenceLines.length ? LicenceTier.findAll({ where: { id: { [Op.in]: licenceLines.map((l) => l.tierId) } } }) : [],
@@ -48,6 +54,18 @@ export async function quoteCart(lines: CartLineInput[]): Promise<CartQuote> {
   const quoted: QuotedLine[] = lines.map((line): QuotedLine => {
     const key = lineKey(line);
     const fail = (error: string): QuotedLine => ({ key, ok: false, kind: line.kind, error });
+    if (line.kind === 'quote') {
+      const quote = quoteById.get(line.quoteId);
+      const refusal = quoteRefusal(quote, userId, shop.currency);
+      if (refusal) return fail(refusal);
+      const work = workById.get(quote!.workId);
+      if (!work || work.status !== 'published') return fail('This work is not on sale any more.');
+      return {
+        key, ok: true, kind: 'quote', workSlug: work.slug, workTitle: work.title, thumb: thumbOf(work),
+        description: quote!.terms!.tierName, detail: termsSummary(quote!.terms!),
+        unitPrice: quote!.price!, quantity: 1, subtotal: quote!.price!,
+      };
+    }
     if (line.kind === 'licence') {
       const work = workById.get(line.workId);
       if (!work || work.status !== 'published') return fail('This work is not on sale any more.');

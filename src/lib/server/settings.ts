@@ -8,6 +8,7 @@ import { Op, QueryTypes, UniqueConstraintError, col, fn, where, type Model, type
 import type { z } from 'zod';
 import { config } from './config';
 import { db } from './db';
+import { recordAudit, type AuditActor } from './audit';
 import { jsonError, zodFields } from './http';
 import { makeDerivatives } from './images';
 import { LicenceTier, Paper, PrintSize, ShopSettings, Work } from './models';
@@ -89,6 +90,8 @@ function settingsView(s: ShopSettings): ShopSettingsView {
     viewingDistanceFactor: s.viewingDistanceFactor,
     watermarkText: s.watermarkText,
     limitedEditionPremiumBp: s.limitedEditionPremiumBp,
+    labPpi: s.labPpi,
+    labFormat: s.labFormat,
   };
 }
 
@@ -106,14 +109,19 @@ export async function getSettings(): Promise<ShopSettingsView> {
  * A new currency is allowed but prices are not converted (warned); a new watermark text starts the
  * background re-make of every work's previews.
  */
-export async function updateSettings(input: ShopSettingsData): Promise<SettingsSaved> {
+export async function updateSettings(input: ShopSettingsData, actor?: AuditActor): Promise<SettingsSaved> {
   const sequelize = db();
   const { before, after } = await sequelize.transaction(async (transaction) => {
     const row = await ShopSettings.findByPk(1, { transaction });
     if (!row) throw notConfigured();
     const before = settingsView(row);
     await row.update(input, { transaction });
-    return { before, after: settingsView(row) };
+    const after = settingsView(row);
+    const money = (v: typeof before) => ({ currency: v.currency, limitedEditionPremiumBp: v.limitedEditionPremiumBp });
+    if (actor && JSON.stringify(money(before)) !== JSON.stringify(money(after))) {
+      await recordAudit(actor, { action: 'settings.money', subjectType: 'settings', subjectId: 1, before: money(before), after: money(after) }, transaction);
+    }
+    return { before, after };
   });
   const warnings: SettingsWarning[] = [];
   if (before.currency !== after.currency) {
@@ -287,7 +295,7 @@ export async function createTier(data: LicenceTierData): Promise<LicenceTierView
 }
 
 /** Applies a partial change; the merged tier must pass the whole schema. The slug stays, so links keep working. */
-export async function updateTier(id: number, patch: LicenceTierPatch): Promise<LicenceTierView> {
+export async function updateTier(id: number, patch: LicenceTierPatch, actor?: AuditActor): Promise<LicenceTierView> {
   try {
     return await db().transaction(async (transaction) => {
       const row = await LicenceTier.findByPk(id, { transaction });
@@ -297,6 +305,10 @@ export async function updateTier(id: number, patch: LicenceTierPatch): Promise<L
       if (!merged.success) throw invalidAfterMerge(merged.error, 'invalid_tier');
       if (patch.name !== undefined) await assertNameFree(LicenceTier, 'name', merged.data.name, id, transaction, 'licence_tier');
       await row.update(tierValues(merged.data), { transaction });
+      const { id: _i, slug: _s, position: _p, ...updated } = tierView(row);
+      if (actor && JSON.stringify(current) !== JSON.stringify(updated)) {
+        await recordAudit(actor, { action: 'tier.change', subjectType: 'licence_tier', subjectId: id, before: current, after: updated }, transaction);
+      }
       return tierView(row);
     });
   } catch (error) {

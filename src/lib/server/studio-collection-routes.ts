@@ -51,7 +51,8 @@ interface Item<Patch, Row, Outcome> {
   /** Shown for an unknown id, e.g. "No such paper." */
   missing: string;
   patch: z.ZodType<Patch>;
-  update: (id: number, patch: Patch) => Promise<Row>;
+  /** `actor` is the signed-in user, for the audit trail of changes to money and rights. */
+  update: (id: number, patch: Patch, actor: { id: string; email: string }) => Promise<Row>;
   remove: (id: number) => Promise<Outcome>;
 }
 
@@ -67,7 +68,7 @@ export function itemRoutes<Patch, Row, Outcome>(i: Item<Patch, Row, Outcome>): {
     const id = parseId(params.id);
     if (id == null) return notFound();
     try {
-      return Response.json({ [i.key]: await i.update(id, parsed.data) }, { headers: noStore });
+      return Response.json({ [i.key]: await i.update(id, parsed.data, { id: auth.id, email: auth.email }) }, { headers: noStore });
     } catch (error) {
       return settingsErrorResponse(error);
     }

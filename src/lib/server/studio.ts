@@ -8,7 +8,9 @@ import type { z } from 'zod';
 import { db } from './db';
 import { Edition, LicenceTier, Paper, PrintOffer, PrintSize, Series, Work, WorkLicencePrice } from './models';
 import { ftsQuery, getShop, pictureOf, type ShopInfo } from './catalogue';
+import { itemsSoldByWork } from './sales';
 import { jsonError, zodFields } from './http';
+import { recordAudit, type AuditActor } from './audit';
 import { mediaUrl, variantAtLeast } from '../media';
 import { GRADE_LABEL, gradePrint, type PrintGradeResult } from '../print-grade';
 import {
@@ -68,11 +70,11 @@ function writeTransaction<T>(work: (t: Transaction) => Promise<T>): Promise<T> {
 }
 
 /**
- * Sales (licences and prints) per work id. There are no orders yet: the checkout issue fills this
- * from paid order lines. Until then it is an empty map, so every work shows 0.
+ * Sales per work id: licences and prints (by quantity) on paid orders, leaving out lines refunded in
+ * full (see `itemsSoldByWork` in sales.ts). A work with none is absent and shows 0.
  */
 export async function salesCountByWork(): Promise<Map<number, number>> {
-  return new Map();
+  return itemsSoldByWork();
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -314,10 +316,11 @@ export async function listStudioWorks(query: WorksListQuery): Promise<StudioWork
 // Writing
 
 /** Saves some or all of a work's details. */
-export async function saveWorkDetails(id: number, patch: WorkDetailsPatch): Promise<{ message: string; editor: StudioWorkEditor }> {
+export async function saveWorkDetails(id: number, patch: WorkDetailsPatch, actor?: AuditActor): Promise<{ message: string; editor: StudioWorkEditor }> {
   const withdrawn = await writeTransaction(async (transaction) => {
     const work = await Work.findByPk(id, { transaction });
     if (!work) throw notFound(id);
+    const releaseBefore = work.propertyRelease;
     if (patch.seriesId != null && !(await Series.findByPk(patch.seriesId, { transaction }))) {
       throw new StudioError(422, 'unknown_series', 'That series does not exist.', { seriesId: 'No such series.' });
     }
@@ -338,7 +341,11 @@ export async function saveWorkDetails(id: number, patch: WorkDetailsPatch): Prom
       work.focalY = patch.focal.y;
     }
     await work.save({ transaction });
-    return commercialAllowed(work.propertyRelease) ? [] : withdrawCommercialTiers(work.id, transaction);
+    const withdrawnTiers = commercialAllowed(work.propertyRelease) ? [] : await withdrawCommercialTiers(work.id, transaction);
+    if (actor && releaseBefore !== work.propertyRelease) {
+      await recordAudit(actor, { action: 'work.rights', subjectType: 'work', subjectId: work.id, before: { propertyRelease: releaseBefore }, after: { propertyRelease: work.propertyRelease, withdrawn: withdrawnTiers } }, transaction);
+    }
+    return withdrawnTiers;
   });
   const message = withdrawn.length
     ? `Details saved. Without a property release, ${withdrawn.join(' and ')} ${withdrawn.length === 1 ? 'is' : 'are'} now withdrawn.`
@@ -347,7 +354,7 @@ export async function saveWorkDetails(id: number, patch: WorkDetailsPatch): Prom
 }
 
 /** Saves the work's rule for each tier sent: the tier's default, the work's own price, or withdrawn. */
-export async function saveLicencePrices(id: number, input: LicencePricesInput): Promise<{ message: string; editor: StudioWorkEditor }> {
+export async function saveLicencePrices(id: number, input: LicencePricesInput, actor?: AuditActor): Promise<{ message: string; editor: StudioWorkEditor }> {
   await writeTransaction(async (transaction) => {
     const work = await Work.findByPk(id, { transaction });
     if (!work) throw notFound(id);
@@ -372,6 +379,12 @@ export async function saveLicencePrices(id: number, input: LicencePricesInput): 
     }
 
     const rows = await WorkLicencePrice.findAll({ where: { workId: id }, transaction });
+    const rule = (tierId: number, r?: { mode: string; price: number | null }) => `${tierById.get(tierId)?.name ?? tierId}: ${r ? (r.mode === 'override' ? r.price : r.mode) : 'default'}`;
+    const before = input.tiers.map((t) => rule(t.tierId, rows.find((r) => r.licenceTierId === t.tierId)));
+    const after = input.tiers.map((t) => rule(t.tierId, t.mode === 'default' ? undefined : { mode: t.mode, price: t.mode === 'override' ? t.price! : null }));
+    if (actor && JSON.stringify(before) !== JSON.stringify(after)) {
+      await recordAudit(actor, { action: 'price.licence', subjectType: 'work', subjectId: id, before: { prices: before }, after: { prices: after } }, transaction);
+    }
     for (const t of input.tiers) {
       const row = rows.find((r) => r.licenceTierId === t.tierId);
       if (t.mode === 'default') {
@@ -390,7 +403,7 @@ export async function saveLicencePrices(id: number, input: LicencePricesInput): 
 interface Issue { status: 409 | 422; code: string; path: string; message: string }
 
 /** Saves which sizes and papers the work is offered on, and each size's edition. */
-export async function savePrintOffers(id: number, input: PrintOffersInput): Promise<{ message: string; editor: StudioWorkEditor }> {
+export async function savePrintOffers(id: number, input: PrintOffersInput, actor?: AuditActor): Promise<{ message: string; editor: StudioWorkEditor }> {
   const shop = await getShop();
   const onOffer = await writeTransaction(async (transaction) => {
     const work = await Work.findByPk(id, { transaction });
@@ -406,6 +419,8 @@ export async function savePrintOffers(id: number, input: PrintOffersInput): Prom
     const sizeById = new Map(sizes.map((s) => [s.id, s]));
     const paperById = new Map(papers.map((p) => [p.id, p]));
     const fixed = editionFixed(work);
+    // Taken before anything below changes these instances.
+    const beforeSummary = summariseOffers(editions.map((e) => e.get({ plain: true })), offers.map((o) => o.get({ plain: true })));
 
     const issues: Issue[] = [];
     const issue = (status: Issue['status'], code: string, path: string, message: string) => issues.push({ status, code, path, message });
@@ -483,11 +498,36 @@ export async function savePrintOffers(id: number, input: PrintOffersInput): Prom
       for (const o of atSize) if (!s.papers.includes(o.paperId) && o.active) await o.update({ active: false }, { transaction });
     }
     await touchWork(id, transaction);
+    if (actor) {
+      const after = await offerSummary(id, transaction);
+      if (JSON.stringify(beforeSummary) !== JSON.stringify(after)) {
+        await recordAudit(actor, { action: 'price.print', subjectType: 'work', subjectId: id, before: beforeSummary, after }, transaction);
+      }
+    }
     const live = await PrintOffer.findAll({ where: { workId: id, active: true }, attributes: ['printSizeId'], transaction });
     return new Set(live.map((o) => o.printSizeId)).size;
   });
   const message = onOffer === 0 ? 'Print offers saved: no size is on offer.' : `Print offers saved: ${onOffer} ${onOffer === 1 ? 'size' : 'sizes'} on offer.`;
   return { message, editor: await editorAfterWrite(id) };
+}
+
+type EditionRow = { printSizeId: number; kind: string; total: number | null; artistProofs: number };
+type OfferRow = { printSizeId: number; paperId: number; active: boolean; priceOverride: number | null };
+
+/** Offers and editions as the audit trail keeps them: one readable entry per size. */
+function summariseOffers(editions: EditionRow[], offers: OfferRow[]): { editions: string[]; offers: string[] } {
+  return {
+    editions: editions.map((e) => `size ${e.printSizeId}: ${e.kind === 'limited' ? `${e.total} + ${e.artistProofs} AP` : 'open'}`).sort(),
+    offers: offers.filter((o) => o.active).map((o) => `size ${o.printSizeId} paper ${o.paperId}: ${o.priceOverride ?? 'standard price'}`).sort(),
+  };
+}
+
+async function offerSummary(workId: number, transaction: Transaction) {
+  const [editions, offers] = await Promise.all([
+    Edition.findAll({ where: { workId }, transaction, raw: true }),
+    PrintOffer.findAll({ where: { workId }, transaction, raw: true }),
+  ]);
+  return summariseOffers(editions as unknown as EditionRow[], offers as unknown as OfferRow[]);
 }
 
 type PublishOutcome = Extract<BulkOutcome, 'published' | 'already-published' | 'needs-alt-text' | 'unpublished' | 'already-draft'>;

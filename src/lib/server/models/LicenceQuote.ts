@@ -1,5 +1,6 @@
-import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize';
+import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from 'sequelize';
 import type { LicenceTerms } from './Licence';
+import type { Work } from './Work';
 
 /** What a buyer asks for when the shop's tiers do not fit their use. */
 export interface QuoteRequest {
@@ -39,6 +40,8 @@ export class LicenceQuote extends Model<InferAttributes<LicenceQuote>, InferCrea
   declare orderId: CreationOptional<number | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
+
+  declare work?: NonAttribute<Work>;
 
   static initModel(sequelize: Sequelize): void {
     LicenceQuote.init(

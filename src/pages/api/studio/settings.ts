@@ -29,7 +29,7 @@ export const PUT = (async ({ request, locals }) => {
   const parsed = shopSettingsInput.safeParse(body.value);
   if (!parsed.success) return invalidInput(parsed.error, 'invalid_settings');
   try {
-    return Response.json(await updateSettings(parsed.data), { headers: noStore });
+    return Response.json(await updateSettings(parsed.data, { id: auth.id, email: auth.email }), { headers: noStore });
   } catch (error) {
     return settingsErrorResponse(error);
   }

@@ -13,7 +13,7 @@ export const PATCH = (async ({ params, request, locals }) => {
   const parsed = personChange.safeParse(body.value);
   if (!parsed.success) return jsonError(400, 'invalid_change', parsed.error.issues[0]!.message, zodFields(parsed.error));
   try {
-    const person = await changePerson(auth.id, params.id ?? '', parsed.data, request.headers);
+    const person = await changePerson(auth.id, params.id ?? '', parsed.data, request.headers, auth.email);
     return Response.json({ person });
   } catch (error) {
     if (error instanceof PeopleError) return jsonError(error.status, error.code, error.message);

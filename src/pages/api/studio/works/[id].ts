@@ -29,7 +29,7 @@ export const PATCH = (async ({ params, request, locals }) => {
   const id = workIdParam(params.id);
   if (id == null) return workNotFound(params.id);
   try {
-    return Response.json(await saveWorkDetails(id, parsed.data), { headers: NO_STORE });
+    return Response.json(await saveWorkDetails(id, parsed.data, { id: auth.id, email: auth.email }), { headers: NO_STORE });
   } catch (error) {
     return studioFailure(error);
   }

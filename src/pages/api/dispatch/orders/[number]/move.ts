@@ -13,7 +13,7 @@ export const POST = (async ({ params, request, locals }) => {
   const parsed = orderMoveInput.safeParse(body.value);
   if (!parsed.success) return jsonError(400, 'invalid_move', 'Say where the order goes next (and, for shipping, the carrier and tracking number).', zodFields(parsed.error));
   try {
-    const order = await moveOrder(params.number ?? '', parsed.data);
+    const order = await moveOrder(params.number ?? '', parsed.data, { id: auth.id, email: auth.email });
     return Response.json({ status: order.status, carrier: order.carrier, trackingNumber: order.trackingNumber });
   } catch (error) {
     if (error instanceof MoveError) return jsonError(error.status, error.code, error.message, error.fields);

@@ -15,7 +15,7 @@ export const PUT = (async ({ params, request, locals }) => {
   const id = workIdParam(params.id);
   if (id == null) return workNotFound(params.id);
   try {
-    return Response.json(await savePrintOffers(id, parsed.data), { headers: NO_STORE });
+    return Response.json(await savePrintOffers(id, parsed.data, { id: auth.id, email: auth.email }), { headers: NO_STORE });
   } catch (error) {
     return studioFailure(error);
   }
