@@ -413,8 +413,8 @@ async function writeOrder(p: PlannedOrder, ctx: WriteContext, t: Transaction): P
   while (await Order.count({ where: { number }, transaction: t })) number = orderNumber(p.createdAt, numbers);
 
   const refund = p.refund;
-  const status: OrderStatus = p.outcome === 'expired' ? 'expired' : p.outcome === 'cancelled' ? 'cancelled'
-    : p.deliveredAt ? 'delivered' : p.shippedAt ? 'shipped' : p.productionAt ? 'in_production' : 'paid';
+  // A paid order starts as paid; what followed is replayed below.
+  const status: OrderStatus = p.outcome === 'expired' ? 'expired' : p.outcome === 'cancelled' ? 'cancelled' : 'paid';
   const lastChange = [p.createdAt, p.paidAt, p.productionAt, p.shippedAt, p.deliveredAt, refund?.settledAt]
     .filter((d): d is Date => d instanceof Date)
     .reduce((a, b) => (b > a ? b : a));
@@ -500,28 +500,35 @@ async function writeOrder(p: PlannedOrder, ctx: WriteContext, t: Transaction): P
     }, { transaction: t, silent: true });
   }
 
-  // The moves Dispatch made, each with its record.
-  let from: OrderStatus = 'paid';
-  const moves: [Date | null, OrderStatus, Record<string, unknown>][] = [
-    [p.productionAt, 'in_production', {}],
-    [p.shippedAt, 'shipped', { carrier: p.carrier, trackingNumber: p.trackingNumber }],
-    [p.deliveredAt, 'delivered', {}],
+  // What followed the payment, in time order: Dispatch's moves and the refund, each with its record.
+  // The order's state is the last of them (a print can still ship after part of its order was refunded).
+  type Step = { at: Date | null; to?: OrderStatus; extra?: Record<string, unknown> };
+  const planned: Step[] = [
+    { at: p.productionAt, to: 'in_production' },
+    { at: p.shippedAt, to: 'shipped', extra: { carrier: p.carrier, trackingNumber: p.trackingNumber } },
+    { at: p.deliveredAt, to: 'delivered' },
+    { at: refund?.settledAt ?? null },
   ];
-  for (const [at, to, extra] of moves) {
-    if (!at) continue;
-    await audit(t, at, ctx.admin, 'order.move', 'order', order.number, order, { status: from }, { status: to, ...extra });
-    from = to;
+  const steps = planned.filter((s): s is Step & { at: Date } => s.at !== null).sort((a, b) => a.at.getTime() - b.at.getTime());
+  let state: OrderStatus = 'paid';
+  for (const step of steps) {
+    if (step.to) {
+      await audit(t, step.at, ctx.admin, 'order.move', 'order', order.number, order, { status: state }, { status: step.to, ...step.extra });
+      state = step.to;
+    } else if (refund) {
+      state = await writeRefund(p, refund, order, lines, licences, ctx, t);
+    }
   }
-
-  if (refund) await writeRefund(p, refund, order, lines, licences, ctx, t);
+  await order.update({ status: state }, { transaction: t, silent: true });
 }
 
-async function writeRefund(p: PlannedOrder, r: PlannedRefund, order: Order, lines: OrderLine[], licences: Map<number, Licence>, ctx: WriteContext, t: Transaction): Promise<void> {
+/** Writes a settled refund and what it took back; returns the state the refund left the order in. */
+async function writeRefund(p: PlannedOrder, r: PlannedRefund, order: Order, lines: OrderLine[], licences: Map<number, Licence>, ctx: WriteContext, t: Transaction): Promise<OrderStatus> {
   const allocations: RefundAllocation[] = r.wholeLines.map((i) => ({ lineId: lines[i]!.id, amount: lines[i]!.subtotal, whole: true }));
   if (r.partLine) allocations.push({ lineId: lines[r.partLine.index]!.id, amount: r.partLine.amount, whole: false });
   if (r.shipping && order.shipping > 0) allocations.push({ lineId: null, amount: order.shipping, whole: true });
   const amount = allocations.reduce((n, a) => n + a.amount, 0);
-  if (amount < 1) return;
+  if (amount < 1) return order.status;
   const seq = String(p.index + 1).padStart(4, '0');
   const row = await Refund.create({
     orderId: order.id, idempotencyKey: `${DEMO_REFUND_PREFIX}${seq}-1`, stripeRefundId: `re_demo_seed_${seq}_1`, amount, currency: order.currency,
@@ -549,6 +556,7 @@ async function writeRefund(p: PlannedOrder, r: PlannedRefund, order: Order, line
   const status: OrderStatus = amount === order.total ? 'refunded' : 'partly_refunded';
   await order.update({ refunded: amount, shippingRefunded: shippingBack, status }, { transaction: t, silent: true });
   await audit(t, r.settledAt, null, 'refund.settle', 'refund', row.id, order, { status: 'pending' }, { status: 'succeeded', amount });
+  return status;
 }
 
 /** Seeds the demo orders relative to `now`. Exported for the tests; `up` runs it with the clock's time. */

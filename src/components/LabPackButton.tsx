@@ -40,7 +40,10 @@ export default function LabPackButton({ number, lineId, pack: initial, refusal }
     setBusy(true);
     setError(null);
     try {
-      const response = await fetch(`/api/dispatch/orders/${encodeURIComponent(number)}/lines/${lineId}/lab-pack`, { method: 'POST' });
+      const response = await fetch(`/api/dispatch/orders/${encodeURIComponent(number)}/lines/${lineId}/lab-pack`, {
+        // JSON, like every API write here: a bodiless POST reads as a form post to Astro's origin check.
+        method: 'POST', headers: { 'Content-Type': 'application/json' }, body: '{}',
+      });
       const answer = await response.json().catch(() => null);
       if (response.ok && answer?.pack) setPack(answer.pack as LabPackView);
       else setError(answer?.error?.message ?? `The shop answered ${response.status}; nothing was changed.`);
@@ -68,7 +71,7 @@ export default function LabPackButton({ number, lineId, pack: initial, refusal }
         </div>
       )}
       {refusal ? (
-        !pack && <p className="text-ink-soft">Not for the lab now: {refusal}</p>
+        !pack && <p className="text-ink-soft" data-testid="lab-pack-refusal">{refusal}</p>
       ) : (
         <div className="flex flex-wrap items-center gap-3">
           <button type="button" className={pack ? 'btn-quiet px-3 py-1 text-xs' : 'btn-primary px-3 py-1 text-xs'} disabled={busy} aria-busy={busy} onClick={prepare}>

@@ -192,7 +192,7 @@ function CropPreview({ picture, result }: { picture: PictureData; result: PrintG
     return (
       <figure className="bg-mat p-5" aria-label="Crop preview">
         <div className="relative mx-auto overflow-hidden" style={{ aspectRatio: String(aspect), maxHeight: '22rem' }}>
-          <img src={src} alt="" width={variant.width} height={variant.height} className="h-full w-full object-contain" />
+          <img src={src} alt="" width={variant.width} height={variant.height} loading="lazy" decoding="async" className="h-full w-full object-contain" />
           <div
             className="absolute outline outline-[999px] outline-mat/85 ring-1 ring-ink/30"
             style={{ left: `${win.left}%`, top: `${win.top}%`, width: `${win.width}%`, height: `${win.height}%` }}
@@ -214,6 +214,8 @@ function CropPreview({ picture, result }: { picture: PictureData; result: PrintG
         <img
           src={src}
           alt=""
+          loading="lazy"
+          decoding="async"
           className="absolute object-cover"
           style={{ width: `${img.width}%`, height: `${img.height}%`, left: `${(100 - img.width) / 2}%`, top: `${(100 - img.height) / 2}%` }}
         />

@@ -10,7 +10,7 @@ const RULE = 'rgb(var(--rule))';
 const RAISED = 'rgb(var(--paper-raised))';
 
 export interface MonthDatum { month: string; label: string; longLabel: string; licences: number; prints: number; refunds: number; shippingRefunds: number }
-export interface WorkDatum { title: string; revenue: number; licences: number; prints: number }
+export interface WorkDatum { slug: string; title: string; revenue: number; licences: number; prints: number }
 export interface EditionDatum { name: string; work: string; size: string; sold: number; total: number; artistProofs: number; percent: number }
 
 type Props =
@@ -25,6 +25,7 @@ const tooltipStyle = {
   labelStyle: { color: INK, fontWeight: 600, marginBottom: 4 },
   itemStyle: { color: INK, padding: 0 },
   cursor: { fill: RULE, fillOpacity: 0.35 },
+  separator: ': ',
 };
 
 /** One chart of Studio → Sales (recharts). The numbers are also in a table beside it on the page. */
@@ -57,20 +58,22 @@ export default function SalesChart(props: Props) {
   if (props.kind === 'works') {
     const { currency } = props;
     const height = 40 + props.data.length * 34;
+    // Works are told apart by slug (two works may share a title); the axis shows the title.
+    const titleOf = new Map(props.data.map((d) => [d.slug, d.title]));
     return (
       <BarChart {...common} layout="vertical" data={props.data} style={{ width: '100%', height }} margin={{ top: 0, right: 24, bottom: 0, left: 0 }}>
         <CartesianGrid horizontal={false} stroke={RULE} />
         <XAxis type="number" tick={axisTick} tickLine={false} axisLine={{ stroke: RULE }} tickFormatter={(v: number) => compactMoney(v, currency)} allowDecimals={false} />
         <YAxis
           type="category"
-          dataKey="title"
+          dataKey="slug"
           tickLine={false}
           axisLine={false}
           width={172}
           interval={0}
           tick={(tick: { x: number | string; y: number | string; payload: { value: string } }) => {
             // One line per work: a long title is shortened, and the table below has it in full.
-            const title = tick.payload.value;
+            const title = titleOf.get(tick.payload.value) ?? tick.payload.value;
             const short = title.length > 26 ? `${title.slice(0, 25).trimEnd()}…` : title;
             return (
               <text x={tick.x} y={tick.y} textAnchor="end" dominantBaseline="central" fontSize={12} fill={SOFT}>
@@ -86,6 +89,7 @@ export default function SalesChart(props: Props) {
             const d = item.payload as WorkDatum;
             return [`${formatMoney(Number(v), currency)} · ${d.licences} licence${d.licences === 1 ? '' : 's'}, ${d.prints} print${d.prints === 1 ? '' : 's'}`, 'Revenue'];
           }}
+          labelFormatter={(slug) => titleOf.get(String(slug)) ?? String(slug)}
         />
         <Bar dataKey="revenue" name="Revenue" fill={EMBER} maxBarSize={22} />
       </BarChart>

@@ -30,11 +30,14 @@ export default function Zoom({ src, width, height, alt }: Props) {
             <button type="button" className="btn-quiet" onClick={() => dialog.current?.close()} autoFocus>Close</button>
           </div>
           <div className="relative flex-1 cursor-crosshair overflow-hidden bg-mat" onPointerMove={pan}>
+            {/* Lazy: inside the closed dialog it is not fetched until the dialog opens (it is the largest preview). */}
             <img
               src={src}
               alt={alt}
               width={width}
               height={height}
+              loading="lazy"
+              decoding="async"
               className="absolute inset-0 h-full w-full object-contain"
               style={{ transform: 'scale(2.2)', transformOrigin: `${origin.x}% ${origin.y}%` }}
             />

@@ -1,8 +1,13 @@
-/** Cart lines as the browser keeps them: ids and choices only, never prices. Shared by the store and the quote API. */
+/**
+ * Cart lines as the browser keeps them: ids and choices only, never prices. The zod schemas the server
+ * checks every cart with; the shapes, limits and `lineKey` live in `cart-lines.ts`, which the browser's
+ * cart store uses without zod.
+ */
 import { z } from 'zod';
+import { MAX_CART_LINES, MAX_PRINT_QUANTITY, QUOTE_ID_PATTERN, lineKey, type CartLineInput } from './cart-lines';
 
-export const MAX_CART_LINES = 50;
-export const MAX_PRINT_QUANTITY = 10;
+export { MAX_CART_LINES, MAX_PRINT_QUANTITY, lineKey };
+export type { CartLineInput, LicenceLineInput, PrintLineInput, QuoteLineInput } from './cart-lines';
 
 export const licenceLineInput = z.object({
   kind: z.literal('licence'),
@@ -20,7 +25,7 @@ export const printLineInput = z.object({
 /** A custom licence the studio quoted for this buyer: priced from the quote, for its owner only. */
 export const quoteLineInput = z.object({
   kind: z.literal('quote'),
-  quoteId: z.string().regex(/^SMQ-[A-Z2-9-]{20,40}$/, { message: 'Not a quote id.' }),
+  quoteId: z.string().regex(QUOTE_ID_PATTERN, { message: 'Not a quote id.' }),
 });
 
 export const cartLineInput = z.discriminatedUnion('kind', [licenceLineInput, printLineInput, quoteLineInput]);
@@ -38,17 +43,12 @@ export const quoteRequest = z.object({
     }),
 });
 
-export type LicenceLineInput = z.infer<typeof licenceLineInput>;
-export type PrintLineInput = z.infer<typeof printLineInput>;
-export type QuoteLineInput = z.infer<typeof quoteLineInput>;
-export type CartLineInput = z.infer<typeof cartLineInput>;
 export type QuoteRequest = z.infer<typeof quoteRequest>;
 
-/** The identity of a line: the same licence or the same print in the same mode is one line. */
-export function lineKey(line: CartLineInput): string {
-  if (line.kind === 'quote') return `quote:${line.quoteId}`;
-  return line.kind === 'licence' ? `licence:${line.workId}:${line.tierId}` : `print:${line.offerId}:${line.mode}`;
-}
+// The hand-written line types must be exactly what the schema parses to (a compile error otherwise).
+type Same<A, B> = [A] extends [B] ? ([B] extends [A] ? true : false) : false;
+const linesMatchSchema: Same<z.infer<typeof cartLineInput>, CartLineInput> = true;
+void linesMatchSchema;
 
 export interface QuotedLineOk {
   key: string;

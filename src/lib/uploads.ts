@@ -55,6 +55,29 @@ export function refusedTypeMessage(bytes: Uint8Array): string {
   return `${seen ? `This is ${seen}.` : 'This file is not an image the shop can read.'} The shop takes ${ACCEPTED_TYPES_TEXT} files.`;
 }
 
+/** The endings a file name may have (OWASP File Upload Cheat Sheet: an allow-list, checked on the decoded name). */
+export const ACCEPTED_EXTENSIONS = ['jpg', 'jpeg', 'png', 'tif', 'tiff', 'webp'] as const;
+
+/**
+ * Why an uploaded file's name is refused before its bytes are read, or null. The content still decides the
+ * type and the file is stored under a random name; this only turns away names that try to pass for
+ * something else: a NUL character ("photo.php%00.jpg") or an ending outside the allow-list, such as a
+ * double extension ("photo.jpg.php"). A name with no ending at all is left to the content check.
+ */
+export function fileNameRefusal(fileName: string): { status: number; code: string; message: string } | null {
+  if (fileName.includes('\u0000')) return { status: 400, code: 'invalid_file_name', message: 'The file name contains a NUL character. Rename the file and try again.' };
+  const last = fileName.split(/[/\\]/).pop() ?? '';
+  const ending = /\.([A-Za-z][A-Za-z0-9]{0,4})$/.exec(last.trim())?.[1];
+  if (ending && !(ACCEPTED_EXTENSIONS as readonly string[]).includes(ending.toLowerCase())) {
+    return {
+      status: 415,
+      code: 'unsupported_type',
+      message: `Files ending in .${ending} (${ending.toUpperCase()}) are not taken. The shop takes ${ACCEPTED_TYPES_TEXT} files, named ${ACCEPTED_EXTENSIONS.map((e) => `.${e}`).join(', ')}.`,
+    };
+  }
+  return null;
+}
+
 export const TITLE_MAX_LENGTH = 120;
 export const UNTITLED = 'Untitled';
 

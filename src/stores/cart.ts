@@ -1,17 +1,16 @@
 /** The cart: line choices only (no prices), kept in localStorage and shared by every island and tab. */
 import { computed } from 'nanostores';
 import { persistentAtom } from '@nanostores/persistent';
-import { z } from 'zod';
-import { cartLineInput, lineKey, MAX_CART_LINES, MAX_PRINT_QUANTITY, type CartLineInput } from '~/lib/cart';
+// Not '~/lib/cart': its zod schemas would ship to every Gallery page. The server checks carts with them.
+import { lineKey, MAX_CART_LINES, MAX_PRINT_QUANTITY, toCartLines, type CartLineInput } from '~/lib/cart-lines';
 
 export const CART_STORAGE_KEY = 'stillmark:cart:v1';
-const storedCart = z.array(cartLineInput).max(MAX_CART_LINES);
 
 /** A stored cart that no longer parses (old format, hand-edited) is dropped, never crashed on. */
 export function decodeCart(encoded: string): CartLineInput[] {
   try {
-    const parsed = storedCart.safeParse(JSON.parse(encoded));
-    if (parsed.success) return parsed.data;
+    const lines = toCartLines(JSON.parse(encoded));
+    if (lines) return lines;
   } catch {
     // not JSON: fall through to the reset
   }

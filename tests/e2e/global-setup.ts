@@ -46,7 +46,9 @@ let catcher: MailCatcher | undefined;
 let stripeFake: StripeFake | undefined;
 
 export default async function setup(project: TestProject) {
-  if (!fs.existsSync('dist/server/entry.mjs')) throw new Error('Build the app first: npm run build');
+  // E2E_SERVER_ENTRY runs another build (e.g. one made with --outDir) instead of dist/.
+  const serverEntry = process.env.E2E_SERVER_ENTRY ?? 'dist/server/entry.mjs';
+  if (!fs.existsSync(serverEntry)) throw new Error('Build the app first: npm run build');
   const dataDir = process.env.E2E_DATA_DIR ?? fs.mkdtempSync(path.join(os.tmpdir(), 'stillmark-e2e-'));
   const port = await freePort();
   const baseUrl = `http://127.0.0.1:${port}`;
@@ -64,7 +66,7 @@ export default async function setup(project: TestProject) {
   const mailCatcherUrl = `http://127.0.0.1:${catcher.httpPort}`;
   const stripeSecret = `whsec_${randomBytes(16).toString('hex')}`;
   stripeFake = await startStripeFake({ port: 0, stateFile: path.join(mailDir, 'stripe-fake.json'), webhookUrl: `${baseUrl}/api/stripe/webhook`, webhookSecret: stripeSecret });
-  server = spawn(process.execPath, ['dist/server/entry.mjs'], {
+  server = spawn(process.execPath, [serverEntry], {
     env: { ...env, HOST: '127.0.0.1', PORT: String(port), SMTP_URL: `smtp://127.0.0.1:${catcher.smtpPort}`, MAIL_CATCHER_URL: mailCatcherUrl,
       STRIPE_API_BASE: stripeFake.url, STRIPE_WEBHOOK_SECRET: stripeSecret, STRIPE_SECRET_KEY: 'sk_test_e2e' },
     stdio: ['ignore', 'inherit', 'inherit'],

@@ -328,6 +328,13 @@ describe('production needs every lab pack', () => {
     // and may still be prepared again while in production
     expect((await prepare('SM-261203-LABAAA', ids.fit!)).status).toBe(200);
   });
+
+  it('a print refunded in full needs no pack: the partly refunded order goes into production with the other one prepared', async () => {
+    expect((await moveTo('SM-261203-PARTLY', 'in_production')).status).toBe(409);
+    expect((await prepare('SM-261203-PARTLY', ids.partlyLive!)).status).toBe(200);
+    expect((await moveTo('SM-261203-PARTLY', 'in_production')).status).toBe(200);
+    expect(await packOf(ids.refundedLine!)).toBeNull();
+  });
 });
 
 describe('lab settings in Studio → Settings', () => {

@@ -213,7 +213,7 @@ describe('POST /api/studio/uploads — accepted originals', () => {
     const cases = [
       { name: '../../etc/passwd.jpg', title: 'passwd', slug: 'passwd' },
       { name: 'a\\b.jpg', title: 'b', slug: 'b' },
-      { name: 'bell\u0007 and\u0000 nul\u001b.jpg', title: 'bell and nul', slug: 'bell-and-nul' },
+      { name: 'bell\u0007 and\u0001 nul\u001b.jpg', title: 'bell and nul', slug: 'bell-and-nul' },
       { name: 'Line\nbreak\r\n.jpg', title: 'Line break', slug: 'line-break' },
       { name: '.jpg', title: 'Untitled', slug: 'untitled' },
     ];

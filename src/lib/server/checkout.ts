@@ -165,6 +165,9 @@ export async function startCheckout(user: SessionUser, input: CheckoutInput, ori
 
 export type EventOutcome = 'handled' | 'duplicate' | 'ignored';
 
+/** An event that depends on one not yet received: nothing is recorded, and the endpoint asks for it again later. */
+export class EventTooEarlyError extends Error {}
+
 /**
  * Applies one verified Stripe event. The event id is recorded in the same transaction as its effects,
  * so the same event delivered again changes nothing. Returns follow-up work (refunds, mail) to run after commit.
@@ -256,8 +259,17 @@ export async function applyStripeEvent(event: Stripe.Event): Promise<{ outcome: 
         return { outcome: 'handled' as const, orderNumber: order.number };
       }
       case 'charge.refunded': {
-        const result = await settleChargeRefunded(event.data.object, transaction);
-        if (!result) return { outcome: 'ignored' as const };
+        const charge = event.data.object;
+        const result = await settleChargeRefunded(charge, transaction);
+        if (!result) {
+          // Events are not delivered in order: a refund can overtake the checkout.session.completed of its
+          // payment. Refused unrecorded, it comes again with Stripe's retries, after the payment is in.
+          const waiting = await orderOf(charge.metadata?.order_number);
+          if (waiting && !waiting.stripePaymentIntentId && (waiting.status === 'pending_payment' || waiting.status === 'expired')) {
+            throw new EventTooEarlyError(`The refund for order ${waiting.number} arrived before its payment; send it again later.`);
+          }
+          return { outcome: 'ignored' as const };
+        }
         await db().query('UPDATE webhook_events SET order_id = (SELECT id FROM orders WHERE number = $1) WHERE id = $2', { bind: [result.orderNumber, event.id], transaction });
         return { outcome: 'handled' as const, settledRefunds: result.settled };
       }

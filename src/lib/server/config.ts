@@ -30,6 +30,8 @@ const envSchema = z.object({
 });
 
 export interface ServerConfig {
+  /** STILLMARK_DATA_DIR (or the working folder): holds db/, uploads/, lab/ and backups/ unless they are set apart. */
+  dataDir: string;
   databasePath: string;
   uploadsDir: string;
   originalsDir: string;
@@ -71,6 +73,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): ServerConfig {
     throw new Error('Invalid environment: AUTH_SECRET must be set (32+ characters) in production');
   }
   return {
+    dataDir: root,
     databasePath: path.resolve(e.DATABASE_PATH ?? path.join(root, 'db', 'stillmark.sqlite')),
     uploadsDir,
     originalsDir: path.join(uploadsDir, 'originals'),

@@ -98,8 +98,8 @@ export async function orderDetail(number: string): Promise<DispatchOrderDetail |
       { bind: [order.id], type: QueryTypes.SELECT },
     ),
     Refund.findAll({ where: { orderId: order.id, status: 'pending' } }),
-    db().query<{ recipient: string; subject: string; error: string | null; created_at: string }>(
-      'SELECT recipient, subject, error, created_at FROM order_mails WHERE order_id = $1 ORDER BY created_at ASC, id ASC',
+    db().query<{ recipient: string; subject: string; state: string; error: string | null; created_at: string }>(
+      'SELECT recipient, subject, state, error, created_at FROM order_mails WHERE order_id = $1 ORDER BY created_at ASC, id ASC',
       { bind: [order.id], type: QueryTypes.SELECT },
     ),
     auditForOrder(order.id),
@@ -124,7 +124,7 @@ export async function orderDetail(number: string): Promise<DispatchOrderDetail |
     if (r.settledAt) timeline.push({ at: r.settledAt, kind: 'refund', label: `Refund of ${formatMoney(r.amount, r.currency)} settled` });
     if (r.status === 'failed') timeline.push({ at: r.createdAt, kind: 'refund', label: `Refund of ${formatMoney(r.amount, r.currency)} refused: ${r.failure ?? 'no reason given'}` });
   }
-  for (const m of mails) timeline.push({ at: new Date(m.created_at).toISOString(), kind: 'mail', label: `${m.error ? 'Mail failed' : 'Mailed'}: ${m.subject}` });
+  for (const m of mails) timeline.push({ at: new Date(m.created_at).toISOString(), kind: 'mail', label: `${m.state === 'queued' ? 'Mail queued for another try' : m.error ? 'Mail failed' : 'Mailed'}: ${m.subject}` });
   // Stable for equal times: placed before paid before what followed.
   timeline.sort((a, b) => a.at.localeCompare(b.at));
   // The note has no time of its own; the order's last change is the best we know.

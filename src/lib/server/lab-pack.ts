@@ -190,6 +190,17 @@ async function uprightSize(file: string): Promise<{ width: number; height: numbe
 
 // -------------------------------------------------------------------------------------- preparing
 
+/** Removes temporary folders an interrupted run left in the order's folder (older than an hour). */
+async function sweepStaleTemp(orderDir: string): Promise<void> {
+  const entries = await fsp.readdir(orderDir, { withFileTypes: true }).catch(() => []);
+  for (const entry of entries) {
+    if (!entry.isDirectory() || !entry.name.startsWith('.tmp-')) continue;
+    const full = path.join(orderDir, entry.name);
+    const stat = await fsp.stat(full).catch(() => null);
+    if (stat && Date.now() - stat.mtimeMs > 3_600_000) await fsp.rm(full, { recursive: true, force: true }).catch(() => undefined);
+  }
+}
+
 /** One pack at a time: each decodes an original of up to 150 MP, so they queue rather than run side by side. */
 let queue: Promise<unknown> = Promise.resolve();
 function oneAtATime<T>(job: () => Promise<T>): Promise<T> {
@@ -284,6 +295,7 @@ async function makePack(order: Order, line: OrderLine, work: Work, originalPath:
   const folder = `L${line.id}-${stamp}-${crypto.randomBytes(3).toString('hex')}`;
   const temp = path.join(orderDir, `.tmp-${crypto.randomUUID()}`);
   const final = path.join(orderDir, folder);
+  await sweepStaleTemp(orderDir);
   await fsp.mkdir(temp, { recursive: true });
   const preparedAt = new Date();
   try {
@@ -341,7 +353,10 @@ async function makePack(order: Order, line: OrderLine, work: Work, originalPath:
     ppi,
     bytes: (await fsp.stat(path.join(final, fileName))).size,
     preparedAt: preparedAt.toISOString(),
+    mode,
+    crop: plan.crop,
   };
+  const audited = (r: LabPackRecord) => ({ file: path.posix.basename(r.file), format: r.format, widthPx: r.widthPx, heightPx: r.heightPx, ppi: r.ppi, mode: r.mode ?? null, crop: r.crop ?? null });
   let previous: LabPackRecord | null = null;
   try {
     previous = await db().transaction(async (transaction) => {
@@ -359,8 +374,8 @@ async function makePack(order: Order, line: OrderLine, work: Work, originalPath:
         subjectId: l.id,
         orderId: o.id,
         userId: o.userId,
-        before: before ? { file: before.file, format: before.format, widthPx: before.widthPx, heightPx: before.heightPx, ppi: before.ppi } : null,
-        after: { file: record.file, format: record.format, widthPx: record.widthPx, heightPx: record.heightPx, ppi: record.ppi, mode, crop: plan.crop },
+        before: before ? audited(before) : null,
+        after: audited(record),
       }, transaction);
       return before;
     });

@@ -141,12 +141,8 @@ export async function jobSheetPdf(d: JobSheetData): Promise<Uint8Array> {
   sheet.page!.drawImage(image, { x: SHEET_MARGIN, y, width: w, height: h });
   sheet.page!.drawRectangle({ x: SHEET_MARGIN, y, width: w, height: h, borderColor: RULE, borderWidth: 0.75 });
   const caption: TextStyle = { face: faces.sans, size: 7.5, color: INK_SOFT };
-  sheet.draw(
-    pdfLine(`Preview of the print file, the whole sheet (${formatCount(d.plan.sheet.width)} × ${formatCount(d.plan.sheet.height)} px); the hairline marks the sheet's edge.`),
-    SHEET_MARGIN,
-    y - 12,
-    caption,
-  );
+  const captionText = pdfLine(`Preview of the print file, the whole sheet (${formatCount(d.plan.sheet.width)} × ${formatCount(d.plan.sheet.height)} px); the hairline marks the sheet's edge.`);
+  sheet.draw(sheet.fit(captionText, sheet.width, caption), SHEET_MARGIN, y - 12, caption);
   sheet.finish();
   return doc.save();
 }

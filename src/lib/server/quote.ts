@@ -10,6 +10,35 @@ import { licencePrice, lineSubtotal } from '../pricing';
 import { GRADE_LABEL, gradePrint } from '../print-grade';
 import { mediaUrl, variantAtLeast } from '../media';
 import { sumMinor } from '../money';
+import { perCatalogueVersion } from './catalogue-version';
+
+/**
+ * Everything a price is made from (works, tiers, a work's licence rules, print offers with their size,
+ * paper and edition, the shop's settings), loaded once per catalogue version: a quote is asked for on
+ * every cart view and checkout, and the catalogue changes rarely. Read only.
+ */
+const pricingCatalogue = perCatalogueVersion(async () => {
+  const [shop, works, tiers, rules, offers] = await Promise.all([
+    getShop(),
+    Work.findAll(),
+    LicenceTier.findAll(),
+    WorkLicencePrice.findAll(),
+    PrintOffer.findAll({
+      include: [
+        { model: PrintSize, as: 'size' },
+        { model: Paper, as: 'paper' },
+        { model: Edition, as: 'edition' },
+      ],
+    }),
+  ]);
+  return {
+    shop,
+    workById: new Map(works.map((w) => [w.id, w])),
+    tierById: new Map(tiers.map((t) => [t.id, t])),
+    ruleByWorkAndTier: new Map(rules.map((r) => [`${r.workId}:${r.licenceTierId}`, r])),
+    offerById: new Map(offers.map((o) => [o.id, o])),
+  };
+});
 
 function thumbOf(work: Work): QuotedLineOk['thumb'] {
   const picture = pictureOf(work);
@@ -24,32 +53,10 @@ function capText(cap: number | null, unit: string | null): string {
 /** Prices the cart; quoted licence lines only for `userId`, the account that asked for them (null: signed out). */
 export async function quoteCart(lines: CartLineInput[], userId: string | null = null): Promise<CartQuote> {
   db();
-  const shop = await getShop();
-  const licenceLines = lines.filter((l) => l.kind === 'licence');
-  const printLines = lines.filter((l) => l.kind === 'print');
+  const { shop, workById, tierById, ruleByWorkAndTier, offerById } = await pricingCatalogue();
   const quoteLines = lines.filter((l) => l.kind === 'quote');
   const quotes = quoteLines.length && userId ? await LicenceQuote.findAll({ where: { id: { [Op.in]: quoteLines.map((l) => l.quoteId) }, userId } }) : [];
   const quoteById = new Map(quotes.map((q) => [q.id, q]));
-
-  const offers = printLines.length
-    ? await PrintOffer.findAll({
-        where: { id: { [Op.in]: printLines.map((l) => l.offerId) } },
-        include: [
-          { model: PrintSize, as: 'size' },
-          { model: Paper, as: 'paper' },
-          { model: Edition, as: 'edition' },
-        ],
-      })
-    : [];
-  const workIds = [...new Set([...licenceLines.map((l) => l.workId), ...offers.map((o) => o.workId), ...quotes.map((q) => q.workId)])];
-  const [works, tiers, rules] = await Promise.all([
-    Work.findAll({ where: { id: { [Op.in]: workIds } } }),
-    licenceLines.length ? LicenceTier.findAll({ where: { id: { [Op.in]: licenceLines.map((l) => l.tierId) } } }) : [],
-    licenceLines.length ? WorkLicencePrice.findAll({ where: { workId: { [Op.in]: workIds } } }) : [],
-  ]);
-  const workById = new Map(works.map((w) => [w.id, w]));
-  const tierById = new Map(tiers.map((t) => [t.id, t]));
-  const offerById = new Map(offers.map((o) => [o.id, o]));
 
   const quoted: QuotedLine[] = lines.map((line): QuotedLine => {
     const key = lineKey(line);
@@ -71,7 +78,7 @@ export async function quoteCart(lines: CartLineInput[], userId: string | null = 
       if (!work || work.status !== 'published') return fail('This work is not on sale any more.');
       const tier = tierById.get(line.tierId);
       if (!tier || !tier.active) return fail('This licence is no longer offered.');
-      const rule = rules.find((r) => r.workId === work.id && r.licenceTierId === tier.id);
+      const rule = ruleByWorkAndTier.get(`${work.id}:${tier.id}`);
       const price = licencePrice(tier.defaultPrice, licenceRuleOf(rule));
       if (price == null) return fail(`${tier.name} is not available for “${work.title}”.`);
       const term = tier.termMonths ? `${tier.termMonths} months` : 'no end date';

@@ -10,6 +10,9 @@ export interface LabPackRecord {
   ppi: number;
   bytes: number;
   preparedAt: string;
+  /** How the picture was put on the sheet, and the part of the upright original printed (original pixels). */
+  mode?: 'fill' | 'fit';
+  crop?: { left: number; top: number; width: number; height: number };
 }
 
 /** One bought thing, with its price and terms copied as they stood when the order was made. */

@@ -2,7 +2,7 @@ import type { APIRoute } from 'astro';
 import { config } from '~/lib/server/config';
 import { jsonError } from '~/lib/server/http';
 import { stripe } from '~/lib/server/stripe';
-import { applyStripeEvent } from '~/lib/server/checkout';
+import { applyStripeEvent, EventTooEarlyError } from '~/lib/server/checkout';
 import { afterStripeEvent } from '~/lib/server/fulfilment';
 
 /** Stripe's events: raw body, signature verified with the SDK (300 s tolerance), each event applied once. */
@@ -16,7 +16,14 @@ export const POST = (async ({ request }) => {
   } catch {
     return jsonError(400, 'bad_signature', 'The signature does not match this payload.');
   }
-  const result = await applyStripeEvent(event);
+  let result;
+  try {
+    result = await applyStripeEvent(event);
+  } catch (error) {
+    // Not recorded as seen: any answer but 2xx makes Stripe deliver the event again later.
+    if (error instanceof EventTooEarlyError) return jsonError(409, 'event_too_early', error.message);
+    throw error;
+  }
   if (result.outcome === 'handled') await afterStripeEvent(event, result);
   return Response.json({ received: true, outcome: result.outcome });
 }) satisfies APIRoute;

@@ -9,6 +9,7 @@ import { config } from '~/lib/server/config';
 import { requireArea } from '~/lib/server/guard';
 import { jsonError } from '~/lib/server/http';
 import { UploadError, createdWorkBody, ingestUpload, tooLarge } from '~/lib/server/ingest';
+import { fileNameRefusal } from '~/lib/uploads';
 
 /**
  * When a refusal comes before the body has been read to its end, the connection is closed after the answer,
@@ -31,6 +32,12 @@ export const POST = (async ({ request, locals }) => {
     fileName = decodeURIComponent(rawName);
   } catch {
     return jsonError(400, 'invalid_file_name', 'X-File-Name must be the file name, encoded with encodeURIComponent.');
+  }
+  const nameRefused = fileNameRefusal(fileName);
+  if (nameRefused) {
+    const response = jsonError(nameRefused.status, nameRefused.code, nameRefused.message);
+    if (request.body) response.headers.set('Connection', 'close');
+    return response;
   }
 
   const lengthHeader = request.headers.get('content-length');

@@ -1,0 +1,40 @@
+/**
+ * The catalogue's version (a counter raised by triggers on every change to the catalogue tables, see
+ * migration 2026.12.02T09.30.00.catalogue-version) and values kept for as long as it stands still.
+ * One indexed single-row read per use replaces the several queries, and the model building, that
+ * the kept value would cost.
+ */
+import { QueryTypes, type Sequelize } from 'sequelize';
+import { db } from './db';
+
+/** The current version, or null when the database has no counter yet (then nothing is kept). */
+export async function catalogueVersion(sequelize: Sequelize = db()): Promise<number | null> {
+  try {
+    const rows = await sequelize.query<{ version: number }>('SELECT version FROM catalogue_version WHERE id = 1', { type: QueryTypes.SELECT, raw: true });
+    return rows[0]?.version ?? null;
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * `load()` run once per catalogue version (and per database, as tests swap databases) and shared by
+ * every caller until the version moves. A value loaded while the catalogue changed is tagged with the
+ * version read before loading, so the next call loads again.
+ */
+export function perCatalogueVersion<T>(load: () => Promise<T>): () => Promise<T> {
+  let kept: { sequelize: Sequelize; version: number; value: Promise<T> } | null = null;
+  return async () => {
+    const sequelize = db();
+    const version = await catalogueVersion(sequelize);
+    if (version === null) return load();
+    if (kept && kept.sequelize === sequelize && kept.version === version) return kept.value;
+    const value = load();
+    kept = { sequelize, version, value };
+    // A failed load is not kept.
+    value.catch(() => {
+      if (kept?.value === value) kept = null;
+    });
+    return value;
+  };
+}
