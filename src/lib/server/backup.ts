@@ -78,7 +78,7 @@ async function nonEmpty(dir: string): Promise<boolean> {
   }
 }
 
-/** Every file under `dir`, as paths relative to it with forward slashes; `.tmp` entries (work in progress) are left out. */
+/** Every file under `dir`, as paths relative to it with forward slashes; work in progress (`*.tmp`, the lab pack's `.tmp-*`) is left out. */
 async function walk(dir: string, prefix = ''): Promise<string[]> {
   let entries: fs.Dirent[];
   try {
@@ -89,7 +89,7 @@ async function walk(dir: string, prefix = ''): Promise<string[]> {
   }
   const out: string[] = [];
   for (const entry of entries.sort((a, b) => a.name.localeCompare(b.name))) {
-    if (entry.name.endsWith('.tmp')) continue;
+    if (entry.name.endsWith('.tmp') || entry.name.startsWith('.tmp-')) continue;
     const rel = prefix ? `${prefix}/${entry.name}` : entry.name;
     if (entry.isDirectory()) out.push(...(await walk(dir, rel)));
     else if (entry.isFile()) out.push(rel);

@@ -18,7 +18,18 @@ const require = createRequire(import.meta.url);
 export const WATERMARK_FONT_FILE = require.resolve('@expo-google-fonts/dm-serif-display/400Regular/DMSerifDisplay_400Regular.ttf');
 
 /** Bump when the derivative recipe changes, so new files get new (cache-busting) names. */
-const PIPELINE_VERSION = 1;
+const PIPELINE_VERSION = 2;
+
+/**
+ * Encoder settings, chosen by measurement (bench/RESULTS.md, image ingest): on a 24 MP upload the
+ * slower settings (AVIF effort 2, WebP effort 4, mozjpeg's trellis) took about 4 s of CPU for files
+ * 5–15 % smaller; these take about a quarter of that. AVIF effort 0 makes files as small as effort 2 here.
+ */
+const ENCODE = {
+  avif: { quality: 55, effort: 0 },
+  webp: { quality: 78, effort: 1 },
+  jpeg: { quality: 82, progressive: true, optimiseCoding: true, quantisationTable: 3 },
+} as const;
 
 export const VARIANTS: readonly { name: VariantName; longEdge: number }[] = [
   { name: 'sm', longEdge: 480 },
@@ -192,27 +203,32 @@ export async function makeDerivatives(
   const tempDir = `${finalDir}.${crypto.randomBytes(6).toString('hex')}.tmp`;
   await fsp.mkdir(tempDir, { recursive: true });
   try {
+    // Each size is resized and watermarked in one pass (cheap, one at a time); then every file of every
+    // size is encoded at once, largest first, so both cores stay busy to the last file (libuv's pool runs
+    // four at a time). Sizes one after another, each waiting for its slowest format, left a core idle.
+    const marked: { name: VariantName; data: Buffer; width: number; height: number; channels: 1 | 2 | 3 | 4 }[] = [];
     for (const variant of VARIANTS) {
-      const resized = await sharp(data, raw)
+      const scale = Math.min(1, variant.longEdge / Math.max(info.width, info.height));
+      const mark = await watermarkFor(options.watermarkText, Math.round(info.width * scale));
+      const out = await sharp(data, raw)
         .resize(variant.longEdge, variant.longEdge, { fit: 'inside', withoutEnlargement: true })
-        .raw()
-        .toBuffer({ resolveWithObject: true });
-      const { width, height } = resized.info;
-      const mark = await watermarkFor(options.watermarkText, width);
-      const marked = await sharp(resized.data, { raw: { width, height, channels: resized.info.channels } })
         .composite([{ input: mark, gravity: 'centre' }])
         .raw()
         .toBuffer({ resolveWithObject: true });
-      const source = () =>
-        sharp(marked.data, { raw: { width, height, channels: marked.info.channels } }).removeAlpha().withIccProfile('srgb');
-      await Promise.all([
-        source().avif({ quality: 55, effort: 2 }).toFile(path.join(tempDir, `${variant.name}.avif`)),
-        source().webp({ quality: 78 }).toFile(path.join(tempDir, `${variant.name}.webp`)),
-        source().jpeg({ quality: 82, mozjpeg: true }).toFile(path.join(tempDir, `${variant.name}.jpg`)),
-      ]);
+      const { width, height, channels } = out.info;
+      marked.push({ name: variant.name, data: out.data, width, height, channels });
       variants.push({ name: variant.name, width, height });
       if (width === info.width && height === info.height) break; // a small original stops at its own size
     }
+    const encodes = marked.reverse().flatMap((m) => {
+      const source = () => sharp(m.data, { raw: { width: m.width, height: m.height, channels: m.channels } }).removeAlpha().withIccProfile('srgb');
+      return [
+        () => source().avif(ENCODE.avif).toFile(path.join(tempDir, `${m.name}.avif`)),
+        () => source().webp(ENCODE.webp).toFile(path.join(tempDir, `${m.name}.webp`)),
+        () => source().jpeg(ENCODE.jpeg).toFile(path.join(tempDir, `${m.name}.jpg`)),
+      ];
+    });
+    await Promise.all(encodes.map((encode) => encode()));
     // The folder's name is a hash of everything that went into it, so a folder already there (another
     // process got there first) holds the same files: keep it and drop ours.
     try {

@@ -26,6 +26,9 @@ let cached: { url: string; transport: ReturnType<typeof makeTransport> } | undef
 function makeTransport(url: string) {
   return createTransport({
     url,
+    // Keep the SMTP connection open between messages: a new connection per message (greeting, EHLO, …)
+    // was most of the time from a paid order to its receipt (bench/RESULTS.md, checkout).
+    pool: true,
     // A relay that does not answer should fail the request that sent mail, not hang it for minutes.
     connectionTimeout: 10_000,
     greetingTimeout: 10_000,
