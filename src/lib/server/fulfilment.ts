@@ -1,5 +1,7 @@
 /** What follows a committed Stripe event: automatic refunds for lost editions, and the buyer's mail. */
 import type Stripe from 'stripe';
+import { QueryTypes } from 'sequelize';
+import { db } from './db';
 import { stripe } from './stripe';
 import { sendMail } from './mail';
 import { escapeHtml as escape } from './mail-templates';
@@ -34,6 +36,25 @@ export async function afterStripeEvent(
     await mailFor(event.type, order);
   } catch (error) {
     // The order stands even when mail cannot be sent; the buyer's account shows everything.
+    console.error(`mail for order ${order.number} failed`, error);
+  }
+}
+
+/**
+ * A repeated `checkout.session.completed` is not applied again, but if the first delivery died after
+ * its transaction committed and before the buyer's mail was sent or queued, the mail is sent now: the
+ * order's mail log is empty exactly then.
+ */
+export async function afterDuplicateEvent(event: Stripe.Event): Promise<void> {
+  if (event.type !== 'checkout.session.completed') return;
+  const number = event.data.object.metadata?.order_number;
+  const order = number ? await Order.findOne({ where: { number } }) : null;
+  if (!order || (order.status !== 'paid' && order.status !== 'refunded')) return;
+  const logged = await db().query('SELECT 1 FROM order_mails WHERE order_id = $1 LIMIT 1', { bind: [order.id], type: QueryTypes.SELECT });
+  if (logged.length) return;
+  try {
+    await mailFor(event.type, order);
+  } catch (error) {
     console.error(`mail for order ${order.number} failed`, error);
   }
 }

@@ -3,7 +3,7 @@ import { config } from '~/lib/server/config';
 import { jsonError } from '~/lib/server/http';
 import { stripe } from '~/lib/server/stripe';
 import { applyStripeEvent, EventTooEarlyError } from '~/lib/server/checkout';
-import { afterStripeEvent } from '~/lib/server/fulfilment';
+import { afterDuplicateEvent, afterStripeEvent } from '~/lib/server/fulfilment';
 
 /** Stripe's events: raw body, signature verified with the SDK (300 s tolerance), each event applied once. */
 export const POST = (async ({ request }) => {
@@ -25,5 +25,6 @@ export const POST = (async ({ request }) => {
     throw error;
   }
   if (result.outcome === 'handled') await afterStripeEvent(event, result);
+  if (result.outcome === 'duplicate') await afterDuplicateEvent(event);
   return Response.json({ received: true, outcome: result.outcome });
 }) satisfies APIRoute;
