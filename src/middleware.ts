@@ -77,7 +77,7 @@ export const onRequest = defineMiddleware(async (context, next) => {
   headers.set('Cache-Control', context.locals.user ? 'private, no-cache' : 'public, no-cache');
   headers.append('Vary', 'Cookie');
   headers.set('ETag', etag);
-  if (slot && !headers.has('Set-Cookie')) slot.keep({ body, etag, headers: [...headers] });
+  if (slot && !headers.has('Set-Cookie')) slot.keep({ body: new TextEncoder().encode(body), etag, headers: [...headers] });
   if (context.request.headers.get('if-none-match') === etag) return new Response(null, { status: 304, headers });
   return new Response(body, { status: 200, headers });
 });

@@ -11,6 +11,8 @@ const CHROME_FLAGS = '--headless=new --no-sandbox --disable-gpu --disable-backgr
 export interface PageResult {
   name: string;
   url: string;
+  /** Every run's score; the figures below are from the run with the median score. */
+  runScores: number[];
   score: number;
   lcpMs: number;
   fcpMs: number;
@@ -93,10 +95,16 @@ export function islandClosure(html: string, clientDir: string): { islands: strin
   return { islands, chunks };
 }
 
-async function measurePage(name: string, url: string, outDir: string, clientDir: string | null): Promise<PageResult> {
-  log(`lighthouse: ${name} (${url})`);
+/** Lighthouse runs per page; the run with the median performance score is reported (scores move between runs on a busy machine). */
+const RUNS = Number(process.env.BENCH_LH_RUNS ?? 3);
+
+async function measurePage(name: string, url: string, outDir: string, clientDir: string | null, runs = RUNS): Promise<PageResult> {
+  log(`lighthouse: ${name} (${url}), ${runs} run${runs === 1 ? '' : 's'}`);
   const html = await (await fetch(url)).text();
-  const lhr = await lighthouse(url, path.join(outDir, `${name}.json`));
+  const all: Lhr[] = [];
+  for (let i = 1; i <= runs; i++) all.push(await lighthouse(url, path.join(outDir, `${name}-${i}.json`)));
+  const scores = all.map((l) => l.categories.performance.score ?? 0);
+  const lhr = all.map((l, i) => ({ l, s: scores[i]! })).sort((a, b) => a.s - b.s)[Math.floor((all.length - 1) / 2)]!.l;
   const a = lhr.audits;
   const num = (id: string) => a[id]?.numericValue ?? NaN;
   const blocking = new Map<string, string>();
@@ -118,6 +126,7 @@ async function measurePage(name: string, url: string, outDir: string, clientDir:
   return {
     name,
     url,
+    runScores: scores.map((x) => Math.round(x * 100)),
     score: Math.round((lhr.categories.performance.score ?? 0) * 100),
     lcpMs: round(num('largest-contentful-paint')),
     fcpMs: round(num('first-contentful-paint')),
@@ -143,7 +152,7 @@ export async function measurePages(
 ): Promise<{ baseline: PageResult; pages: PageResult[] }> {
   fs.mkdirSync(outDir, { recursive: true });
   const clientDir = path.join(REPO, 'bench/.dist/client');
-  const baseline = await measurePage('baseline', baselineUrl, outDir, null);
+  const baseline = await measurePage('baseline', baselineUrl, outDir, null, 1);
   const pages: PageResult[] = [];
   for (const t of targets) pages.push(await measurePage(t.name, t.url, outDir, clientDir));
   return { baseline, pages };

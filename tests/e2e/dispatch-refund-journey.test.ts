@@ -9,7 +9,8 @@ import { islandsReady, launchBrowser, screenshotPath } from './browser';
  */
 const baseUrl = inject('baseUrl');
 const mailCatcherUrl = inject('mailCatcherUrl');
-const BUYER = 'tom@picture-desk.example';
+// A buyer of its own, so other browser tests' orders for the demo buyer never meet this one.
+const BUYER = `collector-${Date.now()}@picture-desk.example`;
 let browser: Browser;
 let buyer: Page;
 let admin: Page;
@@ -25,6 +26,27 @@ async function signIn(page: Page, email: string, password: string) {
   await page.waitForURL(/\/account/);
 }
 
+/** Signs up through the form and confirms the address by the caught mail's link. */
+async function signUp(page: Page, email: string) {
+  await page.goto(`${baseUrl}/sign-up`);
+  await islandsReady(page);
+  await page.getByLabel('Name').fill('Ada Collector');
+  await page.getByLabel('E-mail').fill(email);
+  await page.getByLabel('Password').fill('pears on a slate shelf');
+  await page.getByRole('button', { name: 'Create account' }).click();
+  await page.getByTestId('auth-done').waitFor();
+  let link = '';
+  await expect.poll(async () => {
+    const list = (await (await fetch(`${mailCatcherUrl}/messages?to=${encodeURIComponent(email)}`)).json()) as { messages: { id: string }[] };
+    if (!list.messages.length) return false;
+    const mail = (await (await fetch(`${mailCatcherUrl}/messages/${list.messages[0]!.id}`)).json()) as { text: string };
+    link = /https?:\/\/\S+/.exec(mail.text)![0];
+    return true;
+  }, { timeout: 10_000 }).toBe(true);
+  await page.goto(link);
+  await page.waitForURL(/\/account\?verified=1/);
+}
+
 async function subjectsFor(to: string): Promise<string[]> {
   const answer = (await (await fetch(`${mailCatcherUrl}/messages?to=${encodeURIComponent(to)}`)).json()) as { messages: { subject: string }[] };
   return answer.messages.map((m) => m.subject);
@@ -35,13 +57,13 @@ beforeAll(async () => {
   buyer = await browser.newPage({ viewport: { width: 1280, height: 900 } });
   admin = await browser.newPage({ viewport: { width: 1280, height: 900 } });
   for (const page of [buyer, admin]) page.on('pageerror', (error) => pageErrors.push(error.message));
-  await signIn(buyer, BUYER, 'gallery-demo-2026');
   await signIn(admin, 'manager@kestrel-studio.example', 'dispatch-demo-2026');
 });
 afterAll(async () => browser?.close());
 
 describe('an order from payment to a refunded licence line', () => {
-  it('the buyer pays for a licence and an open-edition print in one order', async () => {
+  it('a new buyer signs up and pays for a licence and an open-edition print in one order', async () => {
+    await signUp(buyer, BUYER);
     await buyer.goto(`${baseUrl}/works/three-pears`);
     await buyer.getByTestId('licence-editorial-digital').scrollIntoViewIfNeeded();
     await buyer.getByTestId('licence-editorial-digital').getByRole('button', { name: /Add the Editorial · Digital licence/ }).click();
@@ -56,14 +78,14 @@ describe('an order from payment to a refunded licence line', () => {
     await islandsReady(buyer);
     await buyer.getByLabel('Licensee’s name').fill('Picture Desk Ltd');
     await buyer.getByLabel(/Intended use/).fill('One online feature on pears');
-    await buyer.getByLabel('Name', { exact: true }).fill('Tom Adair');
+    await buyer.getByLabel('Name', { exact: true }).fill('Ada Collector');
     await buyer.getByLabel('Address', { exact: true }).fill('4 Harbour Row');
     await buyer.getByLabel('Town or city').fill('Leith');
     await buyer.getByLabel('Postcode').fill('EH6 6AA');
     await buyer.getByLabel('Country').selectOption('GB');
     await buyer.getByTestId('go-to-payment').click();
     await buyer.waitForURL(/\/pay\/cs_/);
-    await buyer.getByLabel('Name on card').fill('Tom Adair');
+    await buyer.getByLabel('Name on card').fill('Ada Collector');
     await buyer.getByLabel('Card number').fill('4242 4242 4242 4242'); // Stripe test card: succeeds (TRADE-FACTS §3.2)
     await buyer.getByLabel(/Expiry/).fill('12 / 34');
     await buyer.getByLabel('Security code').fill('123');

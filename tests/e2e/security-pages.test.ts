@@ -97,13 +97,21 @@ function openDb(): sqlite3.Database {
   db.configure('busyTimeout', 5000);
   return db;
 }
-function dbAll<T>(sql: string, params: unknown[] = []): Promise<T[]> {
+async function dbAll<T>(sql: string, params: unknown[] = []): Promise<T[]> {
   const db = openDb();
-  return new Promise<T[]>((resolve, reject) => db.all(sql, params, (error, rows) => (error ? reject(error) : resolve(rows as T[])))).finally(() => db.close());
+  try {
+    return await new Promise<T[]>((resolve, reject) => db.all(sql, params, (error, rows) => (error ? reject(error) : resolve(rows as T[]))));
+  } finally {
+    db.close();
+  }
 }
-function dbRun(sql: string, params: unknown[] = []): Promise<void> {
+async function dbRun(sql: string, params: unknown[] = []): Promise<void> {
   const db = openDb();
-  return new Promise<void>((resolve, reject) => db.run(sql, params, (error) => (error ? reject(error) : resolve()))).finally(() => db.close());
+  try {
+    await new Promise<void>((resolve, reject) => db.run(sql, params, (error) => (error ? reject(error) : resolve())));
+  } finally {
+    db.close();
+  }
 }
 
 // ------------------------------------------------------------------------------------ the set-up
@@ -465,6 +473,7 @@ describe('in Chromium: no payload runs, every island hydrates under the CSP', ()
       expect(errors, label).toEqual([]);
       // The payload is on screen as the words that were typed.
       expect(report.text, label).toContain(VECTORS.script);
+      await page.evaluate(() => window.scrollTo(0, 0));
       if (url() === '/') await page.screenshot({ path: screenshotPath('40-security-payloads-home') });
       if (url().startsWith('/works/')) await page.screenshot({ path: screenshotPath('41-security-payloads-work'), fullPage: true });
       await page.close();

@@ -7,14 +7,48 @@
 import { QueryTypes, type Sequelize } from 'sequelize';
 import { db } from './db';
 
-/** The current version, or null when the database has no counter yet (then nothing is kept). */
-export async function catalogueVersion(sequelize: Sequelize = db()): Promise<number | null> {
+async function readVersion(sequelize: Sequelize): Promise<number | null> {
   try {
     const rows = await sequelize.query<{ version: number }>('SELECT version FROM catalogue_version WHERE id = 1', { type: QueryTypes.SELECT, raw: true });
     return rows[0]?.version ?? null;
   } catch {
     return null;
   }
+}
+
+interface Batch {
+  promise: Promise<number | null>;
+  resolve(version: number | null): void;
+}
+const reads = new WeakMap<Sequelize, { running: boolean; waiting: Batch | null }>();
+
+/**
+ * The current version, or null when the database has no counter yet (then nothing is kept).
+ * Callers that arrive while a read is running share the next read, which starts after they arrived:
+ * every caller sees a version read after its call, yet under load one read serves many requests.
+ */
+export function catalogueVersion(sequelize: Sequelize = db()): Promise<number | null> {
+  let state = reads.get(sequelize);
+  if (!state) reads.set(sequelize, (state = { running: false, waiting: null }));
+  const s = state;
+  if (!s.waiting) {
+    let resolve!: (version: number | null) => void;
+    const promise = new Promise<number | null>((r) => (resolve = r));
+    s.waiting = { promise, resolve };
+  }
+  const mine = s.waiting.promise;
+  const start = () => {
+    const batch = s.waiting!;
+    s.waiting = null;
+    s.running = true;
+    void readVersion(sequelize).then((version) => {
+      s.running = false;
+      batch.resolve(version);
+      if (s.waiting) start();
+    });
+  };
+  if (!s.running) start();
+  return mine;
 }
 
 /**

@@ -15,7 +15,8 @@ const GALLERY_PATH = /^\/(?:series(?:\/[a-z0-9-]+)?|works\/[a-z0-9-]+)?$/;
 const MAX_PAGES = 1000;
 
 export interface KeptPage {
-  body: string;
+  /** UTF-8 bytes, encoded once (not on every send). */
+  body: Uint8Array<ArrayBuffer>;
   etag: string;
   headers: [string, string][];
 }
