@@ -1,8 +1,9 @@
 /**
  * One image measurement in a process of its own, so its peak memory is its own:
- *   node --import tsx bench/ingest-child.ts pipeline <file>   the whole upload pipeline (ingestUpload)
+ *   node --import tsx bench/ingest-child.ts pipeline <file> [<file>…]  the whole upload pipeline (ingestUpload), once per file
  *   node --import tsx bench/ingest-child.ts floor <file> <out> one bare sharp resize to 2400 px, JPEG
- * Prints one JSON line: the measured milliseconds, the RSS before the work and the process's peak RSS.
+ * Prints one JSON line: the measured milliseconds (and CPU milliseconds, all threads), the RSS before the
+ * work and the process's peak RSS.
  * STILLMARK_DATA_DIR must name a migrated, seeded data folder (the pipeline watermarks with its settings).
  */
 import fs from 'node:fs';
@@ -30,20 +31,31 @@ async function main(): Promise<Record<string, unknown>> {
   db();
   await Work.count();
   const rssBefore = process.memoryUsage().rss;
-  const bytes = fs.statSync(file).size;
-  const body = Readable.toWeb(fs.createReadStream(file, { highWaterMark: 256 * 1024 })) as ReadableStream<Uint8Array>;
-  const started = performance.now();
-  const result = await ingestUpload(body, { fileName: 'bench-still-life.jpg', declaredBytes: bytes, userId: 'bench' });
-  const ms = performance.now() - started;
-  if (result.status !== 'created') throw new Error(`expected a new work, got ${result.status}`);
-  const work = result.work;
-  const variants = work.derivatives?.variants.length ?? 0;
-  const formats = work.derivatives?.formats.length ?? 0;
+  // Each file given is one upload, in order: the first is a server's first upload after it started,
+  // the next ones are what a running server does (fonts, encoders and code already warm).
+  const files = [file, ...process.argv.slice(4)];
+  const uploads: { ms: number; cpuMs: number }[] = [];
+  let last: Awaited<ReturnType<typeof ingestUpload>> | null = null;
+  for (const [i, upload] of files.entries()) {
+    const bytes = fs.statSync(upload).size;
+    const body = Readable.toWeb(fs.createReadStream(upload, { highWaterMark: 256 * 1024 })) as ReadableStream<Uint8Array>;
+    const cpu = process.cpuUsage();
+    const started = performance.now();
+    last = await ingestUpload(body, { fileName: `bench-still-life-${i + 1}.jpg`, declaredBytes: bytes, userId: 'bench' });
+    const ms = performance.now() - started;
+    const used = process.cpuUsage(cpu);
+    if (last.status !== 'created') throw new Error(`expected a new work, got ${last.status}`);
+    uploads.push({ ms, cpuMs: (used.user + used.system) / 1000 });
+  }
+  const work = last!.status === 'created' ? last!.work : null;
+  const variants = work?.derivatives?.variants.length ?? 0;
+  const formats = work?.derivatives?.formats.length ?? 0;
   await closeDb();
   return {
-    ms,
+    ms: uploads[uploads.length - 1]!.ms,
+    uploads,
     rssBeforeKB: Math.round(rssBefore / 1024),
-    work: { id: work.id, width: work.width, height: work.height, files: variants * formats, hasPlaceholder: work.placeholder.startsWith('data:image/webp'), capture: work.capture, dominantColor: work.dominantColor },
+    work: work && { id: work.id, width: work.width, height: work.height, files: variants * formats, hasPlaceholder: work.placeholder.startsWith('data:image/webp'), capture: work.capture, dominantColor: work.dominantColor },
   };
 }
 

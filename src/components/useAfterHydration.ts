@@ -13,3 +13,10 @@ export function useStoreAfterHydration<T>(store: ReadableAtom<T>, serverValue: T
   useEffect(() => setHydrated(true), []);
   return hydrated ? value : serverValue;
 }
+
+/** False in the server's HTML and until the island has hydrated; a control disabled until then never swallows a click. */
+export function useHydrated(): boolean {
+  const [hydrated, setHydrated] = useState(false);
+  useEffect(() => setHydrated(true), []);
+  return hydrated;
+}

@@ -72,3 +72,27 @@ export function perCatalogueVersion<T>(load: () => Promise<T>): () => Promise<T>
     return value;
   };
 }
+
+/**
+ * The same per argument list: `load(...args)` once per catalogue version and key, at most `max` keys
+ * kept per version (past that, loads are simply not kept).
+ */
+export function perCatalogueVersionKeyed<A extends unknown[], T>(load: (...args: A) => Promise<T>, keyOf: (...args: A) => string, max = 500): (...args: A) => Promise<T> {
+  let kept: { sequelize: Sequelize; version: number; values: Map<string, Promise<T>> } | null = null;
+  return async (...args: A) => {
+    const sequelize = db();
+    const version = await catalogueVersion(sequelize);
+    if (version === null) return load(...args);
+    if (!kept || kept.sequelize !== sequelize || kept.version !== version) kept = { sequelize, version, values: new Map() };
+    const values = kept.values;
+    const key = keyOf(...args);
+    const found = values.get(key);
+    if (found) return found;
+    const value = load(...args);
+    if (values.size < max) {
+      values.set(key, value);
+      value.catch(() => values.delete(key));
+    }
+    return value;
+  };
+}

@@ -9,6 +9,7 @@ import type { Orientation } from '../catalogue-types';
 
 export type * from '../catalogue-types';
 import { licencePrice, printPrice, type LicencePriceRule } from '../pricing';
+import { perCatalogueVersion, perCatalogueVersionKeyed } from './catalogue-version';
 
 /** A work's stored licence rule (or none) as the pricing module's rule. */
 export function licenceRuleOf(row: WorkLicencePrice | undefined): LicencePriceRule {
@@ -37,7 +38,14 @@ export interface ShopInfo {
 
 export class NotConfiguredError extends Error {}
 
-export async function getShop(): Promise<ShopInfo> {
+/**
+ * The Gallery's reads below are kept per catalogue version (see catalogue-version.ts): every page asks for
+ * the shop, and Gallery pages for the same works, far more often than the catalogue changes. Callers get
+ * shared plain objects and must not change them.
+ */
+export const getShop = perCatalogueVersion(loadShop);
+
+async function loadShop(): Promise<ShopInfo> {
   db();
   const s = await ShopSettings.findByPk(1);
   if (!s) throw new NotConfiguredError('The shop has no settings yet: run `npm run seed`.');
@@ -81,14 +89,18 @@ function toCard(work: Work): WorkCard {
 const published = { status: 'published' } as const;
 const newestFirst: [string, string][] = [['publishedAt', 'DESC'], ['id', 'DESC']];
 
-export async function latestWorks(limit = 24): Promise<WorkCard[]> {
+export const latestWorks = perCatalogueVersionKeyed(loadLatestWorks, (limit = 24) => String(limit));
+
+async function loadLatestWorks(limit = 24): Promise<WorkCard[]> {
   db();
   const works = await Work.findAll({ where: published, include: [{ model: Series, as: 'series' }], order: newestFirst, limit });
   return works.map(toCard);
 }
 
 
-export async function listSeries(): Promise<SeriesSummary[]> {
+export const listSeries = perCatalogueVersion(loadSeriesList);
+
+async function loadSeriesList(): Promise<SeriesSummary[]> {
   db();
   const all = await Series.findAll({
     order: [['position', 'ASC']],
@@ -108,7 +120,9 @@ export async function listSeries(): Promise<SeriesSummary[]> {
     .filter((s) => s.workCount > 0);
 }
 
-export async function getSeries(slug: string): Promise<{ slug: string; title: string; description: string; works: WorkCard[] } | null> {
+export const getSeries = perCatalogueVersionKeyed(loadSeries, (slug: string) => slug);
+
+async function loadSeries(slug: string): Promise<{ slug: string; title: string; description: string; works: WorkCard[] } | null> {
   db();
   const series = await Series.findOne({ where: { slug } });
   if (!series) return null;
@@ -170,15 +184,19 @@ export async function searchWorks(filters: SearchFilters): Promise<WorkCard[]> {
 
 
 
-export async function getPublishedWork(slug: string): Promise<WorkDetail | null> {
+export const getPublishedWork = perCatalogueVersionKeyed(loadPublishedWork, (slug: string) => slug);
+
+async function loadPublishedWork(slug: string): Promise<WorkDetail | null> {
   db();
+  // The three lists are read by queries of their own (separate): in one join they multiply into a row per
+  // edition × offer × price, each carrying the whole work, which Sequelize then has to fold back together.
   const work = await Work.findOne({
     where: { ...published, slug },
     include: [
       { model: Series, as: 'series' },
-      { model: WorkLicencePrice, as: 'licencePrices' },
-      { model: Edition, as: 'editions' },
-      { model: PrintOffer, as: 'offers', where: { active: true }, required: false },
+      { model: WorkLicencePrice, as: 'licencePrices', separate: true },
+      { model: Edition, as: 'editions', separate: true },
+      { model: PrintOffer, as: 'offers', where: { active: true }, required: false, separate: true },
     ],
   });
   if (!work) return null;

@@ -202,25 +202,28 @@ export async function makeDerivatives(
   const variants: DerivativeSet['variants'] = [];
   const tempDir = `${finalDir}.${crypto.randomBytes(6).toString('hex')}.tmp`;
   await fsp.mkdir(tempDir, { recursive: true });
+  let tiny: Buffer;
+  let stats: sharp.Stats;
   try {
-    // Each size is resized and watermarked in one pass (cheap, one at a time); then every file of every
+    // Each size is resized and watermarked in one pass (all sizes side by side); then every file of every
     // size is encoded at once, largest first, so both cores stay busy to the last file (libuv's pool runs
     // four at a time). Sizes one after another, each waiting for its slowest format, left a core idle.
-    const marked: { name: VariantName; data: Buffer; width: number; height: number; channels: 1 | 2 | 3 | 4 }[] = [];
-    for (const variant of VARIANTS) {
-      const scale = Math.min(1, variant.longEdge / Math.max(info.width, info.height));
-      const mark = await watermarkFor(options.watermarkText, Math.round(info.width * scale));
-      const out = await sharp(data, raw)
-        .resize(variant.longEdge, variant.longEdge, { fit: 'inside', withoutEnlargement: true })
-        .composite([{ input: mark, gravity: 'centre' }])
-        .raw()
-        .toBuffer({ resolveWithObject: true });
-      const { width, height, channels } = out.info;
-      marked.push({ name: variant.name, data: out.data, width, height, channels });
-      variants.push({ name: variant.name, width, height });
-      if (width === info.width && height === info.height) break; // a small original stops at its own size
-    }
-    const encodes = marked.reverse().flatMap((m) => {
+    const longEdge = Math.max(info.width, info.height);
+    // A small original stops at its own size: no variant larger than the one that reaches it.
+    const needed = VARIANTS.slice(0, VARIANTS.findIndex((v) => v.longEdge >= longEdge) + 1 || VARIANTS.length);
+    const marked = await Promise.all(
+      needed.map(async (variant) => {
+        const mark = await watermarkFor(options.watermarkText, Math.round(info.width * Math.min(1, variant.longEdge / longEdge)));
+        const out = await sharp(data, raw)
+          .resize(variant.longEdge, variant.longEdge, { fit: 'inside', withoutEnlargement: true })
+          .composite([{ input: mark, gravity: 'centre' }])
+          .raw()
+          .toBuffer({ resolveWithObject: true });
+        return { name: variant.name, data: out.data, width: out.info.width, height: out.info.height, channels: out.info.channels };
+      }),
+    );
+    variants.push(...marked.map(({ name, width, height }) => ({ name, width, height })));
+    const encodes = [...marked].reverse().flatMap((m) => {
       const source = () => sharp(m.data, { raw: { width: m.width, height: m.height, channels: m.channels } }).removeAlpha().withIccProfile('srgb');
       return [
         () => source().avif(ENCODE.avif).toFile(path.join(tempDir, `${m.name}.avif`)),
@@ -228,7 +231,11 @@ export async function makeDerivatives(
         () => source().jpeg(ENCODE.jpeg).toFile(path.join(tempDir, `${m.name}.jpg`)),
       ];
     });
-    await Promise.all(encodes.map((encode) => encode()));
+    [tiny, stats] = await Promise.all([
+      sharp(data, raw).resize(24, 24, { fit: 'inside' }).blur(1.2).webp({ quality: 40 }).toBuffer(),
+      sharp(data, raw).resize(64, 64, { fit: 'inside' }).stats(),
+      ...encodes.map((encode) => encode()),
+    ]);
     // The folder's name is a hash of everything that went into it, so a folder already there (another
     // process got there first) holds the same files: keep it and drop ours.
     try {
@@ -243,8 +250,7 @@ export async function makeDerivatives(
     throw error;
   }
 
-  const tiny = await sharp(data, raw).resize(24, 24, { fit: 'inside' }).blur(1.2).webp({ quality: 40 }).toBuffer();
-  const { dominant } = await sharp(data, raw).resize(64, 64, { fit: 'inside' }).stats();
+  const { dominant } = stats;
   return {
     derivatives: { key, formats: [...FORMATS], variants },
     placeholder: `data:image/webp;base64,${tiny.toString('base64')}`,
