@@ -117,7 +117,8 @@ try {
   if (mailEnv.MAIL_CATCHER_URL) console.log('Mail the shop sends is caught locally: read it in Dispatch → Mail (sign in as admin).');
   if (stripeEnv.STRIPE_API_BASE) console.log(`Payments use the local Stripe fake at ${stripeEnv.STRIPE_API_BASE} (card 4242 4242 4242 4242 pays; 4000 0000 0000 0002 is declined).`);
   console.log('');
-  const server = spawn(process.execPath, ['dist/server/entry.mjs'], { stdio: 'inherit', env: { ...process.env, HOST: host, PORT: port, ...mailEnv, ...stripeEnv } });
+  // React and the server bundle take their production paths only when NODE_ENV says so.
+  const server = spawn(process.execPath, ['dist/server/entry.mjs'], { stdio: 'inherit', env: { NODE_ENV: 'production', ...process.env, HOST: host, PORT: port, ...mailEnv, ...stripeEnv } });
   for (const signal of ['SIGINT', 'SIGTERM']) process.on(signal, () => server.kill(signal));
   server.on('exit', (code) => {
     stopStripeFake();

@@ -247,7 +247,7 @@ export async function measureIngest(workDir: string, env: NodeJS.ProcessEnv, wat
       ...summarise(magickRuns),
       version: im.version,
       files: fs.readdirSync(outDir).sort(),
-      notMade: ['the dominant colour (sharp stats(); ImageMagick would need a separate histogram pass)', 'an embedded sRGB ICC profile on each file (no profile file on this machine to attach)'],
+      notMade: ['the dominant colour (sharp stats(); ImageMagick would need a separate histogram pass)', 'an embedded sRGB ICC profile on each file (not attached in this comparison)'],
     };
   } else {
     log('  ImageMagick not found: its comparison is skipped');

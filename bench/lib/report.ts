@@ -130,7 +130,7 @@ function beforeAfter(r: BenchResults, before: BenchResults | null): string {
     rows.push([`${l.name}: p50 / p99`, `${ms(b.app.p50Ms)} / ${ms(b.app.p99Ms)}`, `${ms(l.app.p50Ms)} / ${ms(l.app.p99Ms)}`]);
   }
   if (r.ingest && before.ingest) {
-    rows.push(['ingest: pipeline wall / peak RSS', `${ms(before.ingest.pipeline.innerMs ?? before.ingest.pipeline.wallMs)} / ${before.ingest.pipeline.maxRssMB} MB`, `${ms(r.ingest.pipeline.innerMs ?? r.ingest.pipeline.wallMs)} / ${r.ingest.pipeline.maxRssMB} MB`]);
+    rows.push(['ingest: pipeline wall / peak RSS (after: over two uploads per process)', `${ms(before.ingest.pipeline.innerMs ?? before.ingest.pipeline.wallMs)} / ${before.ingest.pipeline.maxRssMB} MB`, `${ms(r.ingest.pipeline.innerMs ?? r.ingest.pipeline.wallMs)} / ${r.ingest.pipeline.maxRssMB} MB`]);
   }
   if (r.checkout && before.checkout) {
     rows.push(['checkout: p50 / p99', `${ms(before.checkout.app.p50Ms)} / ${ms(before.checkout.app.p99Ms)}`, `${ms(r.checkout.app.p50Ms)} / ${ms(r.checkout.app.p99Ms)}`]);

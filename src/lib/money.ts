@@ -11,11 +11,24 @@ export function assertMinorUnits(amount: number): void {
   if (!Number.isSafeInteger(amount)) throw new TypeError(`amount must be an integer in minor units, got ${amount}`);
 }
 
+const formats = new Map<string, Intl.NumberFormat>();
+
+/** Building a formatter costs far more than using one; pages format hundreds of prices. */
+function currencyFormat(locale: string, currency: string): Intl.NumberFormat {
+  const key = `${locale}|${currency}`;
+  let format = formats.get(key);
+  if (!format) {
+    format = new Intl.NumberFormat(locale, { style: 'currency', currency });
+    formats.set(key, format);
+  }
+  return format;
+}
+
 /** Formats minor units, e.g. (12500, 'GBP') → "£125.00"; (500, 'JPY') → "¥500". */
 export function formatMoney(amount: number, currency: string, locale: string = DEFAULT_LOCALE): string {
   assertMinorUnits(amount);
   const digits = minorUnitDigits(currency);
-  return new Intl.NumberFormat(locale, { style: 'currency', currency }).format(amount / 10 ** digits);
+  return currencyFormat(locale, currency).format(amount / 10 ** digits);
 }
 
 /** Multiplies minor units by a rate in basis points, rounding half away from zero to a whole minor unit. */

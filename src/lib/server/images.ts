@@ -6,6 +6,7 @@
 import crypto from 'node:crypto';
 import fs from 'node:fs';
 import fsp from 'node:fs/promises';
+import os from 'node:os';
 import path from 'node:path';
 import { createRequire } from 'node:module';
 import sharp from 'sharp';
@@ -164,6 +165,25 @@ async function watermarkFor(text: string, width: number): Promise<Buffer> {
   return faded;
 }
 
+/**
+ * Encodes running at once: one per core keeps the cores busy (each encode runs on one libvips thread
+ * here); more only add encoders' working memory to the peak (bench/RESULTS.md, image ingest).
+ */
+const ENCODES_AT_ONCE = Math.max(2, os.availableParallelism());
+
+// libvips' operation cache keeps recent results for reuse; this app never repeats an operation on the same
+// pixels, so it only raised the peak memory of an upload (by about 30 MB on 24 MP).
+sharp.cache(false);
+
+/** Runs the tasks with at most `limit` in flight, in the order given; rejects on the first failure. */
+async function runAtMost(limit: number, tasks: (() => Promise<unknown>)[]): Promise<void> {
+  let next = 0;
+  const worker = async () => {
+    while (next < tasks.length) await tasks[next++]!();
+  };
+  await Promise.all(Array.from({ length: Math.min(limit, tasks.length) }, worker));
+}
+
 export interface DerivativeResult {
   derivatives: DerivativeSet;
   placeholder: string;
@@ -234,7 +254,7 @@ export async function makeDerivatives(
     [tiny, stats] = await Promise.all([
       sharp(data, raw).resize(24, 24, { fit: 'inside' }).blur(1.2).webp({ quality: 40 }).toBuffer(),
       sharp(data, raw).resize(64, 64, { fit: 'inside' }).stats(),
-      ...encodes.map((encode) => encode()),
+      runAtMost(ENCODES_AT_ONCE, encodes),
     ]);
     // The folder's name is a hash of everything that went into it, so a folder already there (another
     // process got there first) holds the same files: keep it and drop ours.
