@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
-import { islandsReady, launchBrowser, screenshotPath } from './browser';
+import { islandsReady, launchBrowser, screenshotPath, signUpAndConfirm } from './browser';
 
 /**
  * The Dispatch journey end to end: a buyer orders a licence and a print together; the studio manager
@@ -26,27 +26,6 @@ async function signIn(page: Page, email: string, password: string) {
   await page.waitForURL(/\/account/);
 }
 
-/** Signs up through the form and confirms the address by the caught mail's link. */
-async function signUp(page: Page, email: string) {
-  await page.goto(`${baseUrl}/sign-up`);
-  await islandsReady(page);
-  await page.getByLabel('Name').fill('Ada Collector');
-  await page.getByLabel('E-mail').fill(email);
-  await page.getByLabel('Password').fill('pears on a slate shelf');
-  await page.getByRole('button', { name: 'Create account' }).click();
-  await page.getByTestId('auth-done').waitFor();
-  let link = '';
-  await expect.poll(async () => {
-    const list = (await (await fetch(`${mailCatcherUrl}/messages?to=${encodeURIComponent(email)}`)).json()) as { messages: { id: string }[] };
-    if (!list.messages.length) return false;
-    const mail = (await (await fetch(`${mailCatcherUrl}/messages/${list.messages[0]!.id}`)).json()) as { text: string };
-    link = /https?:\/\/\S+/.exec(mail.text)![0];
-    return true;
-  }, { timeout: 10_000 }).toBe(true);
-  await page.goto(link);
-  await page.waitForURL(/\/account\?verified=1/);
-}
-
 async function subjectsFor(to: string): Promise<string[]> {
   const answer = (await (await fetch(`${mailCatcherUrl}/messages?to=${encodeURIComponent(to)}`)).json()) as { messages: { subject: string }[] };
   return answer.messages.map((m) => m.subject);
@@ -63,7 +42,7 @@ afterAll(async () => browser?.close());
 
 describe('an order from payment to a refunded licence line', () => {
   it('a new buyer signs up and pays for a licence and an open-edition print in one order', async () => {
-    await signUp(buyer, BUYER);
+    await signUpAndConfirm(buyer, { baseUrl, mailCatcherUrl, email: BUYER, name: 'Ada Collector', password: 'pears on a slate shelf' });
     await buyer.goto(`${baseUrl}/works/three-pears`);
     await buyer.getByTestId('licence-editorial-digital').scrollIntoViewIfNeeded();
     await buyer.getByTestId('licence-editorial-digital').getByRole('button', { name: /Add the Editorial · Digital licence/ }).click();

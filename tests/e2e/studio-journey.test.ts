@@ -4,7 +4,7 @@ import path from 'node:path';
 import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
-import { islandsReady, launchBrowser, screenshotPath } from './browser';
+import { islandsReady, launchBrowser, screenshotPath, signUpAndConfirm } from './browser';
 
 const baseUrl = inject('baseUrl');
 const mailCatcherUrl = inject('mailCatcherUrl');
@@ -48,24 +48,7 @@ describe('accounts in the browser', () => {
   it('signs a buyer up, confirms the address from the caught mail, and keeps them out of the Studio', async () => {
     const page = await browser.newPage();
     const email = `reader-${Date.now()}@picture-desk.example`;
-    await page.goto(`${baseUrl}/sign-up`);
-    await islandsReady(page);
-    await page.getByLabel('Name').fill('Rosa Reader');
-    await page.getByLabel('E-mail').fill(email);
-    await page.getByLabel('Password').fill('a quiet still life');
-    await page.getByRole('button', { name: 'Create account' }).click();
-    await page.getByTestId('auth-done').waitFor();
-
-    let link = '';
-    await expect.poll(async () => {
-      const list = (await (await fetch(`${mailCatcherUrl}/messages?to=${encodeURIComponent(email)}`)).json()) as { messages: { id: string }[] };
-      if (!list.messages.length) return false;
-      const mail = (await (await fetch(`${mailCatcherUrl}/messages/${list.messages[0]!.id}`)).json()) as { text: string };
-      link = /https?:\/\/\S+/.exec(mail.text)![0];
-      return true;
-    }, { timeout: 10_000 }).toBe(true);
-    await page.goto(link);
-    await page.waitForURL(/\/account\?verified=1/);
+    await signUpAndConfirm(page, { baseUrl, mailCatcherUrl, email, name: 'Rosa Reader', password: 'a quiet still life' });
     expect(await page.getByTestId('account-role').innerText()).toMatch(/Buyer/);
 
     const api = await page.evaluate(async () => (await fetch('/api/studio/works')).status);

@@ -22,6 +22,7 @@ import { startStripeFake, type StripeFake } from '../../src/fakes/stripe/server'
 import { Edition, LicenceTier, Paper, PrintOffer, PrintSize, insertSettings, insertWork, useTempDatabase, type TestData } from '../_fixtures';
 import { listMail, useMailCatcher, waitForMail } from '../_accounts';
 import type { MailCatcher } from '../../src/fakes/mail/catcher';
+import { startWebhookReceiver } from '../_stripe';
 
 const SECRET = 'whsec_checkout_test_secret';
 let data: TestData;
@@ -32,21 +33,10 @@ let receiver: http.Server;
 const ids: Record<string, number> = {};
 const buyer: SessionUser = { id: 'buyer-1', email: 'picture.editor@example.com', name: 'Picture Editor', role: 'buyer', emailVerified: true };
 
-/** Forwards the fake's webhook POSTs to our endpoint exactly as the node adapter would hand them over. */
-function startReceiver(): Promise<string> {
-  receiver = http.createServer(async (req, res) => {
-    const chunks: Buffer[] = [];
-    for await (const c of req) chunks.push(c as Buffer);
-    const request = new Request('http://localhost:4321/api/stripe/webhook', {
-      method: 'POST',
-      headers: Object.entries(req.headers).flatMap(([k, v]) => (typeof v === 'string' ? [[k, v] as [string, string]] : [])),
-      body: Buffer.concat(chunks),
-    });
-    const response = await webhook({ request } as APIContext);
-    res.writeHead(response.status, { 'Content-Type': 'application/json' });
-    res.end(await response.text());
-  });
-  return new Promise((resolve) => receiver.listen(0, '127.0.0.1', () => resolve(`http://127.0.0.1:${(receiver.address() as { port: number }).port}/`)));
+async function startReceiver(): Promise<string> {
+  const started = await startWebhookReceiver();
+  receiver = started.server;
+  return started.url;
 }
 
 beforeAll(async () => {

@@ -9,7 +9,6 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { APIContext } from 'astro';
 import sharp from 'sharp';
-import { POST as webhook } from '~/pages/api/stripe/webhook';
 import { POST as enquire } from '~/pages/api/account/quotes/index';
 import { POST as answer } from '~/pages/api/studio/quotes/[id]/answer';
 import { POST as decline } from '~/pages/api/studio/quotes/[id]/decline';
@@ -28,6 +27,7 @@ import type { SessionUser } from '~/lib/server/auth-types';
 import type { Role } from '~/lib/roles';
 import { startStripeFake, type StripeFake } from '../../src/fakes/stripe/server';
 import type { MailCatcher } from '../../src/fakes/mail/catcher';
+import { startWebhookReceiver } from '../_stripe';
 import { insertSettings, insertWork, useTempDatabase, type TestData } from '../_fixtures';
 import { firstLink, listMail, ORIGIN, useMailCatcher, waitForMail } from '../_accounts';
 
@@ -56,21 +56,10 @@ function post(handler: (ctx: APIContext) => Promise<Response>, body: unknown, us
 const get = (handler: (ctx: APIContext) => Promise<Response>, params: Record<string, string>, user: SessionUser | null) =>
   handler({ params, request: new Request('http://localhost:4321/x'), locals: { user, session: null } } as unknown as APIContext);
 
-/** Forwards the fake's webhook POSTs to our endpoint as the node adapter would. */
-function startReceiver(): Promise<string> {
-  receiver = http.createServer(async (req, res) => {
-    const chunks: Buffer[] = [];
-    for await (const c of req) chunks.push(c as Buffer);
-    const request = new Request('http://localhost:4321/api/stripe/webhook', {
-      method: 'POST',
-      headers: Object.entries(req.headers).flatMap(([k, v]) => (typeof v === 'string' ? [[k, v] as [string, string]] : [])),
-      body: Buffer.concat(chunks),
-    });
-    const response = await webhook({ request } as APIContext);
-    res.writeHead(response.status, { 'Content-Type': 'application/json' });
-    res.end(await response.text());
-  });
-  return new Promise((resolve) => receiver.listen(0, '127.0.0.1', () => resolve(`http://127.0.0.1:${(receiver.address() as { port: number }).port}/`)));
+async function startReceiver(): Promise<string> {
+  const started = await startWebhookReceiver();
+  receiver = started.server;
+  return started.url;
 }
 
 async function pay(url: string, email: string, card = '4242 4242 4242 4242'): Promise<Response> {

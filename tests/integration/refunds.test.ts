@@ -5,7 +5,6 @@ import path from 'node:path';
 import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { APIContext } from 'astro';
-import { POST as webhook } from '~/pages/api/stripe/webhook';
 import { POST as refundRoute } from '~/pages/api/dispatch/orders/[number]/refunds';
 import { POST as moveRoute } from '~/pages/api/dispatch/orders/[number]/move';
 import { GET as download } from '~/pages/api/account/downloads/[token]';
@@ -22,6 +21,7 @@ import { startStripeFake, type StripeFake } from '../../src/fakes/stripe/server'
 import { Edition, LicenceTier, Paper, PrintOffer, PrintSize, insertSettings, insertWork, useTempDatabase, type TestData } from '../_fixtures';
 import { listMail, useMailCatcher, waitForMail } from '../_accounts';
 import type { MailCatcher } from '../../src/fakes/mail/catcher';
+import { startWebhookReceiver } from '../_stripe';
 
 const SECRET = 'whsec_refund_test_secret';
 let data: TestData;
@@ -44,20 +44,10 @@ const refund = (number: string, body: Record<string, unknown>, user: SessionUser
   refundRoute(context(number, { idempotencyKey: crypto.randomUUID(), reason: 'requested_by_customer', ...body }, user));
 const move = (number: string, body: unknown) => moveRoute(context(number, body, as('admin')));
 
-function startReceiver(): Promise<string> {
-  receiver = http.createServer(async (req, res) => {
-    const chunks: Buffer[] = [];
-    for await (const c of req) chunks.push(c as Buffer);
-    const request = new Request('http://localhost:4321/api/stripe/webhook', {
-      method: 'POST',
-      headers: Object.entries(req.headers).flatMap(([k, v]) => (typeof v === 'string' ? [[k, v] as [string, string]] : [])),
-      body: Buffer.concat(chunks),
-    });
-    const response = await webhook({ request } as APIContext);
-    res.writeHead(response.status, { 'Content-Type': 'application/json' });
-    res.end(await response.text());
-  });
-  return new Promise((resolve) => receiver.listen(0, '127.0.0.1', () => resolve(`http://127.0.0.1:${(receiver.address() as { port: number }).port}/`)));
+async function startReceiver(): Promise<string> {
+  const started = await startWebhookReceiver();
+  receiver = started.server;
+  return started.url;
 }
 
 beforeAll(async () => {
