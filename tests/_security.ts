@@ -5,7 +5,6 @@
  * made by `startCheckout`, paid on the local Stripe fake's hosted page and fulfilled by the signed webhook.
  * Every text a person controls can be replaced (the XSS tests put payloads there).
  */
-import http from 'node:http';
 import path from 'node:path';
 import crypto from 'node:crypto';
 import { QueryTypes } from 'sequelize';
@@ -28,6 +27,7 @@ import type { MailCatcher } from '../src/fakes/mail/catcher';
 import { LicenceTier, Paper, Series, insertSettings, insertWork, useTempDatabase, type TestData } from './_fixtures';
 import { useMailCatcher } from './_accounts';
 import { makeOffer, writeOriginal } from './_lab';
+import { startWebhookReceiver } from './_stripe';
 
 export const WEBHOOK_SECRET = 'whsec_security_test_secret';
 export type Who = 'signedOut' | 'owner' | 'otherBuyer' | 'photographer' | 'admin';
@@ -130,19 +130,8 @@ export async function openSecurityShop(options: { texts?: Partial<ShopTexts>; la
   const { catcher, url: catcherUrl } = await useMailCatcher(data.dir);
 
   // The fake's webhook deliveries reach the endpoint exactly as the node adapter hands requests over.
-  const receiver = http.createServer(async (req, res) => {
-    const chunks: Buffer[] = [];
-    for await (const c of req) chunks.push(c as Buffer);
-    const request = new Request('http://localhost:4321/api/stripe/webhook', {
-      method: 'POST',
-      headers: Object.entries(req.headers).flatMap(([k, v]) => (typeof v === 'string' ? [[k, v] as [string, string]] : [])),
-      body: Buffer.concat(chunks),
-    });
-    const response = await webhook({ request } as APIContext);
-    res.writeHead(response.status, { 'Content-Type': 'application/json' });
-    res.end(await response.text());
-  });
-  const webhookUrl = await new Promise<string>((resolve) => receiver.listen(0, '127.0.0.1', () => resolve(`http://127.0.0.1:${(receiver.address() as { port: number }).port}/`)));
+  const receiver = await startWebhookReceiver();
+  const webhookUrl = receiver.url;
   const fake = await startStripeFake({ port: 0, stateFile: path.join(data.dir, 'stripe.json'), webhookUrl, webhookSecret: WEBHOOK_SECRET, retryDelaysMs: [50, 100, 200] });
   process.env.STRIPE_API_BASE = fake.url;
   process.env.STRIPE_WEBHOOK_SECRET = WEBHOOK_SECRET;
@@ -219,7 +208,6 @@ export async function openSecurityShop(options: { texts?: Partial<ShopTexts>; la
     },
     settle,
     close: async () => {
-      receiver.closeAllConnections();
       await fake.close();
       await catcher.close();
       receiver.close();

@@ -4,7 +4,7 @@ import type { APIContext } from 'astro';
 import { POST as webhook } from '~/pages/api/stripe/webhook';
 
 /** Forwards each POST to the webhook route exactly as the node adapter would hand it over: raw body, every header. */
-export function startWebhookReceiver(): Promise<{ url: string; server: http.Server }> {
+export function startWebhookReceiver(): Promise<{ url: string; server: http.Server; close: () => void }> {
   const server = http.createServer(async (req, res) => {
     const chunks: Buffer[] = [];
     for await (const c of req) chunks.push(c as Buffer);
@@ -17,5 +17,12 @@ export function startWebhookReceiver(): Promise<{ url: string; server: http.Serv
     res.writeHead(response.status, { 'Content-Type': 'application/json' });
     res.end(await response.text());
   });
-  return new Promise((resolve) => server.listen(0, '127.0.0.1', () => resolve({ url: `http://127.0.0.1:${(server.address() as { port: number }).port}/`, server })));
+  return new Promise((resolve) => server.listen(0, '127.0.0.1', () => resolve({
+    url: `http://127.0.0.1:${(server.address() as { port: number }).port}/`,
+    server,
+    close: () => {
+      server.closeAllConnections();
+      server.close();
+    },
+  })));
 }

@@ -6,6 +6,7 @@
 import { gradePrint, type CropRect, type FocalPoint, type PixelSize, type PrintMode, type PrintSize } from './print-grade';
 import { pixelsAt } from './paper-sizes';
 import { STATE_LABEL, isOrderState } from './order-states';
+import { slugOf } from './slug';
 
 /** ppi the shop may ask the lab file to be made at. */
 export const LAB_PPI_RANGE = { min: 72, max: 1200 } as const;
@@ -182,16 +183,7 @@ export function labPlan(input: LabPlanInput): LabPlan {
 
 /** A file name part from free text: ASCII letters, digits and hyphens. */
 export function fileSlug(text: string, fallback = 'print'): string {
-  const slug = text
-    .normalize('NFKD')
-    .replace(/\p{M}+/gu, '')
-    .replace(/×/g, 'x')
-    .toLowerCase()
-    .replace(/[^a-z0-9]+/g, '-')
-    .replace(/^-+|-+$/g, '')
-    .slice(0, 40)
-    .replace(/-+$/, '');
-  return slug || fallback;
+  return slugOf(text, fallback, 40);
 }
 
 /** The lab file's name, e.g. "SM-261203-ABCDEF-L12-three-pears-a4-fill-300ppi.tif". */

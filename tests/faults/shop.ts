@@ -3,14 +3,11 @@
  * a buyer and a photographer, works made by the real upload path (originals and previews on disk), a licence
  * tier, and a 5 × 7 in print offer in a limited edition of 5 with UK shipping.
  */
-import http from 'node:http';
-import type { APIContext } from 'astro';
 import type { CheckoutInput } from '~/lib/checkout';
 import sharp from 'sharp';
 import { db } from '~/lib/server/db';
 import { ingestUpload } from '~/lib/server/ingest';
 import { ShippingZone, Work } from '~/lib/server/models';
-import { POST as webhook } from '~/pages/api/stripe/webhook';
 import { Edition, LicenceTier, Paper, PrintOffer, PrintSize, insertSettings } from '../_fixtures';
 import { TEST_USERS } from './users';
 
@@ -74,31 +71,7 @@ export function pay(url: string, email: string, card = '4242 4242 4242 4242'): P
 }
 
 /** The webhook endpoint in this process, behind node:http (for tests that need no separate app process). */
-export function startWebhookReceiver(): Promise<{ url: string; close: () => void }> {
-  const server = http.createServer(async (req, res) => {
-    const chunks: Buffer[] = [];
-    for await (const c of req) chunks.push(c as Buffer);
-    const request = new Request('http://localhost:4321/api/stripe/webhook', {
-      method: 'POST',
-      headers: Object.entries(req.headers).flatMap(([k, v]) => (typeof v === 'string' ? [[k, v] as [string, string]] : [])),
-      body: Buffer.concat(chunks),
-    });
-    const response = await webhook({ request } as APIContext);
-    res.writeHead(response.status, { 'Content-Type': 'application/json' });
-    res.end(await response.text());
-  });
-  return new Promise((resolve) =>
-    server.listen(0, '127.0.0.1', () =>
-      resolve({
-        url: `http://127.0.0.1:${(server.address() as { port: number }).port}/`,
-        close: () => {
-          server.closeAllConnections();
-          server.close();
-        },
-      }),
-    ),
-  );
-}
+export { startWebhookReceiver } from '../_stripe';
 
 /** Polls `check` until it returns true (for hooks, where expect.poll is not available). */
 export async function waitUntil(what: string, check: () => Promise<boolean> | boolean, timeoutMs = 10_000): Promise<void> {

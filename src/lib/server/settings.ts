@@ -12,6 +12,7 @@ import { recordAudit, type AuditActor } from './audit';
 import { jsonError, zodFields } from './http';
 import { makeDerivatives } from './images';
 import { LicenceTier, Paper, PrintSize, ShopSettings, Work } from './models';
+import { slugOf } from '../slug';
 import {
   currencyChangeWarning,
   licenceTierInput,
@@ -135,16 +136,7 @@ export async function updateSettings(input: ShopSettingsData, actor?: AuditActor
 
 /** A URL-safe slug from a name: "Editorial · Digital" → "editorial-digital", "8 × 10 in" → "8-x-10-in". */
 export function slugify(name: string, fallback: string): string {
-  const slug = name
-    .normalize('NFKD')
-    .replace(/\p{M}+/gu, '')
-    .replace(/×/g, 'x')
-    .toLowerCase()
-    .replace(/[^a-z0-9]+/g, '-')
-    .replace(/^-+|-+$/g, '')
-    .slice(0, 60)
-    .replace(/-+$/, '');
-  return slug || fallback;
+  return slugOf(name, fallback, 60);
 }
 
 type SluggedModel = ModelStatic<Model>;
